@@ -1,0 +1,38 @@
+"""steadyfit: estimation and calibration of steady-state growth regressions.
+
+The library works without the command line::
+
+    import steadyfit
+    findings = steadyfit.run("specs/demo.toml")
+    print(findings)                       # compact tables
+    folder = steadyfit.write_run(findings)  # run folder with summary.md, results.json
+
+Heavy dependencies load on first use, so importing the package is cheap.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+__version__ = "0.1.0"
+
+_EXPORTS = {
+    "run": ("steadyfit.pipeline", "run"),
+    "plan": ("steadyfit.pipeline", "plan"),
+    "load_spec": ("steadyfit.spec", "load_spec"),
+    "spec_from_dict": ("steadyfit.spec", "spec_from_dict"),
+    "write_run": ("steadyfit.report.runfolder", "write_run"),
+    "InputError": ("steadyfit.errors", "InputError"),
+    "FORMS": ("steadyfit.equations", "FORMS"),
+}
+
+__all__ = sorted(_EXPORTS)
+
+
+def __getattr__(name: str) -> Any:
+    if name in _EXPORTS:
+        import importlib
+
+        module, attr = _EXPORTS[name]
+        return getattr(importlib.import_module(module), attr)
+    raise AttributeError(f"module 'steadyfit' has no attribute '{name}'")

@@ -1,0 +1,101 @@
+"""Design matrices: one estimation sample and one model form -> arrays to fit."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .data import Selection
+from .equations import ModelForm, Regressor
+from .errors import EstimationError
+
+CONSTANT = "const"
+
+
+@dataclass(frozen=True)
+class Design:
+    """Dependent variable and both regressor sets for one equation on one sample.
+
+    Columns of ``x_unrestricted`` and ``x_restricted`` start with the constant.
+    ``restriction`` is the row R of ``R b = 0`` over all unrestricted
+    coefficients (constant included, with weight 0).
+    """
+
+    equation: str
+    sample: str
+    form: ModelForm
+    economies: tuple[str, ...]
+    y: np.ndarray
+    x_unrestricted: np.ndarray
+    x_restricted: np.ndarray
+    clusters: np.ndarray | None
+
+    @property
+    def names_unrestricted(self) -> tuple[str, ...]:
+        return (CONSTANT, *(r.name for r in self.form.unrestricted))
+
+    @property
+    def names_restricted(self) -> tuple[str, ...]:
+        return (CONSTANT, *(r.name for r in self.form.restricted))
+
+    @property
+    def labels_unrestricted(self) -> tuple[str, ...]:
+        return ("constant", *(r.label for r in self.form.unrestricted))
+
+    @property
+    def labels_restricted(self) -> tuple[str, ...]:
+        return ("constant", *(r.label for r in self.form.restricted))
+
+    @property
+    def restriction(self) -> np.ndarray:
+        return np.array([[0.0, *self.form.restriction]])
+
+    @property
+    def nobs(self) -> int:
+        return len(self.y)
+
+
+def _matrix(frame_values: dict[str, np.ndarray], regs: tuple[Regressor, ...], n: int) -> np.ndarray:
+    cols = [np.ones(n)]
+    for reg in regs:
+        cols.append(sum(w * frame_values[c] for c, w in reg.weights.items()))
+    return np.column_stack(cols)
+
+
+def build_design(selection: Selection, form: ModelForm, equation: str) -> Design:
+    """Arrays for ``form`` on ``selection``; refuse too few economies and collinear regressors."""
+    frame = selection.frame
+    n = len(frame)
+    values = {c: frame[c].to_numpy(dtype=float) for c in frame.columns if not c.startswith("_")}
+    where = f"equation '{equation}' on sample '{selection.sample}'"
+    k = 1 + len(form.unrestricted)
+    if n < k + 2:
+        raise EstimationError(
+            f"{n} economies remain after dropping ({len(selection.dropped)} dropped), but the "
+            f"unrestricted equation has {k} coefficients and needs at least {k + 2}", where)
+    x_u = _matrix(values, form.unrestricted, n)
+    x_r = _matrix(values, form.restricted, n)
+    for x, labels in ((x_u, ("constant", *(r.label for r in form.unrestricted))),
+                      (x_r, ("constant", *(r.label for r in form.restricted)))):
+        _check_rank(x, labels, where)
+    clusters = None
+    if "_cluster" in frame.columns:
+        clusters = frame["_cluster"].to_numpy()
+        if len(np.unique(clusters.astype(str))) < 2:
+            raise EstimationError("cluster-robust covariance needs at least two clusters", where)
+    return Design(equation, selection.sample, form, selection.economies,
+                  values[form.dependent], x_u, x_r, clusters)
+
+
+def _check_rank(x: np.ndarray, labels: tuple[str, ...], where: str) -> None:
+    scale = np.where(np.abs(x).max(axis=0) > 0, np.abs(x).max(axis=0), 1.0)
+    xs = x / scale
+    if np.linalg.matrix_rank(xs) == x.shape[1]:
+        return
+    for j in range(1, x.shape[1] + 1):
+        if np.linalg.matrix_rank(xs[:, :j]) < j:
+            others = ", ".join(labels[: j - 1])
+            raise EstimationError(
+                f"regressor {labels[j - 1]} is perfectly collinear with {others} in this sample "
+                "(for example, it does not vary); drop it or widen the sample", where)

@@ -1,0 +1,176 @@
+"""Immutable records that carry results from inference to the renderers.
+
+Renderers read these and nothing else.  Every record is a frozen dataclass.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Literal
+
+from .data import Dropped
+from .estimators import Fit
+
+BandStatus = Literal["inside", "overlaps", "outside"]
+
+
+@dataclass(frozen=True)
+class TestResult:
+    """One hypothesis test: statistic, p-value, degrees of freedom and the null."""
+
+    name: str
+    statistic: float
+    pvalue: float
+    df: tuple[float, ...]
+    distribution: Literal["F", "chi2", "normal"]
+    null: str
+
+    def rejects(self, level: float) -> bool:
+        return bool(self.pvalue < level)
+
+    def __str__(self) -> str:
+        df = ", ".join(f"{d:g}" for d in self.df)
+        dist = f"{self.distribution}({df})" if df else self.distribution
+        return f"{self.name}: {dist} = {self.statistic:.4g}, p = {self.pvalue:.4g} (H0: {self.null})"
+
+
+@dataclass(frozen=True)
+class Estimate:
+    """A derived quantity with its delta-method standard error and interval.
+
+    ``exact_low``/``exact_high`` hold the interval obtained by mapping the
+    endpoints of the coefficient's own interval, where the quantity is a
+    monotone function of one coefficient (None elsewhere, or when that
+    interval crosses the pole of the map).
+    """
+
+    name: str
+    value: float
+    se: float
+    low: float
+    high: float
+    confidence: float
+    exact_low: float | None = None
+    exact_high: float | None = None
+
+
+@dataclass(frozen=True)
+class ShareVerdict:
+    """An implied share judged against its plausibility band and a test point."""
+
+    estimate: Estimate
+    band: tuple[float, float] | None
+    band_status: BandStatus | None
+    point: float | None
+    point_test: TestResult | None
+    interval_reaches_one: bool
+
+    @property
+    def name(self) -> str:
+        return self.estimate.name
+
+
+@dataclass(frozen=True)
+class CrossCheckResult:
+    """A quantity implied both by the investment slopes and by the n + g + delta slope."""
+
+    quantity: str
+    from_rates: Estimate
+    from_growth: Estimate
+    gap: Estimate
+    test: TestResult
+
+
+@dataclass(frozen=True)
+class EquationFindings:
+    """Everything estimated for one equation on one sample."""
+
+    equation: str
+    sample: str
+    form_key: str
+    description: str
+    restriction_text: str
+    economies: tuple[str, ...]
+    dropped: tuple[Dropped, ...]
+    n_in_sample: int
+    unrestricted: Fit
+    restricted: Fit
+    f_test: TestResult
+    wald_test: TestResult
+    shares: tuple[ShareVerdict, ...]
+    unrestricted_shares: tuple[Estimate, ...]
+    crosscheck: CrossCheckResult
+    steady_state: bool
+    notes: tuple[str, ...] = ()
+
+    @property
+    def nobs(self) -> int:
+        return self.unrestricted.nobs
+
+    @property
+    def column(self) -> str:
+        return f"{self.equation} / {self.sample}"
+
+    def share(self, name: str) -> ShareVerdict | None:
+        return next((s for s in self.shares if s.name == name), None)
+
+
+@dataclass(frozen=True)
+class SampleSummary:
+    name: str
+    filter: str
+    n_selected: int
+
+
+@dataclass(frozen=True)
+class Settings:
+    """The assumptions and inference settings a run used (echoed in every output)."""
+
+    g_plus_delta: float
+    span_years: float | None
+    covariance: str
+    cluster: str | None
+    confidence: float
+    bands: dict[str, tuple[float, float]]
+    points: dict[str, float]
+    non_positive: str
+
+
+@dataclass(frozen=True)
+class Provenance:
+    spec_path: str | None
+    spec_sha256: str
+    data_path: str
+    data_sha256: str
+    data_rows: int
+    versions: dict[str, str]
+
+
+@dataclass(frozen=True)
+class Findings:
+    """The complete result of a run: what the renderers turn into a run folder."""
+
+    title: str
+    spec_stem: str
+    settings: Settings
+    samples: tuple[SampleSummary, ...]
+    results: tuple[EquationFindings, ...]
+    warnings: tuple[str, ...]
+    provenance: Provenance
+    caveats: tuple[str, ...] = field(default=())
+
+    def result(self, equation: str, sample: str) -> EquationFindings:
+        for r in self.results:
+            if r.equation == equation and r.sample == sample:
+                return r
+        raise KeyError(f"no result for equation '{equation}' on sample '{sample}'")
+
+    def __str__(self) -> str:
+        from .report.text import render_text
+
+        return render_text(self)
+
+    def _repr_html_(self) -> str:
+        from .report.markdown import render_html_fragment
+
+        return render_html_fragment(self)

@@ -1,0 +1,161 @@
+"""The run, one direction: spec -> data -> design -> fit -> findings.
+
+:func:`run` is the library entry point (usable in a notebook);
+:func:`plan` does everything up to the design matrices without estimating,
+for ``steadyfit check``.
+"""
+
+from __future__ import annotations
+
+import platform
+from dataclasses import dataclass
+from importlib import metadata
+from pathlib import Path
+
+from . import equations
+from .data import EconomyTable, Selection, load_data, select
+from .design import Design, build_design
+from .estimators import fit_ols
+from .findings import EquationFindings, Findings, Provenance, SampleSummary, Settings
+from .inference import implied_shares, restriction_tests, unrestricted_shares
+from .spec import Spec, load_spec
+
+_VERSIONED = ("steadyfit", "numpy", "scipy", "pandas", "statsmodels", "pydantic")
+
+
+@dataclass(frozen=True)
+class PlannedCell:
+    """One equation on one sample, ready to estimate."""
+
+    selection: Selection
+    design: Design
+
+
+@dataclass(frozen=True)
+class Plan:
+    spec: Spec
+    table: EconomyTable
+    cells: tuple[PlannedCell, ...]
+
+
+def _as_spec(spec: Spec | str | Path) -> Spec:
+    return spec if isinstance(spec, Spec) else load_spec(spec)
+
+
+def plan(spec: Spec | str | Path) -> Plan:
+    """Validate spec and data and build every design, without estimating."""
+    spec = _as_spec(spec)
+    table = load_data(spec)
+    cells = []
+    for eq in spec.body.equation:
+        form = equations.find_form(eq.form, eq.capital)
+        for sample in spec.equation_samples(eq):
+            selection = select(table, spec, sample, form)
+            cells.append(PlannedCell(selection, build_design(selection, form, eq.name)))
+    return Plan(spec, table, tuple(cells))
+
+
+def settings_of(spec: Spec) -> Settings:
+    b = spec.body
+    return Settings(
+        g_plus_delta=b.assumptions.g_plus_delta,
+        span_years=b.assumptions.span_years,
+        covariance=b.inference.covariance,
+        cluster=b.inference.cluster,
+        confidence=b.inference.confidence,
+        bands={"alpha": tuple(b.plausible.alpha), "beta": tuple(b.plausible.beta)},
+        points={"alpha": b.plausible.alpha_point, "beta": b.plausible.beta_point},
+        non_positive=b.data.non_positive,
+    )
+
+
+def estimate_cell(cell: PlannedCell, settings: Settings) -> EquationFindings:
+    """Fit one equation on one sample, unrestricted and restricted, and judge the results."""
+    d = cell.design
+    unres = fit_ols(d.y, d.x_unrestricted, d.names_unrestricted, d.labels_unrestricted,
+                    settings.covariance, d.clusters)  # type: ignore[arg-type]
+    res = fit_ols(d.y, d.x_restricted, d.names_restricted, d.labels_restricted,
+                  settings.covariance, d.clusters)  # type: ignore[arg-type]
+    f_test, wald = restriction_tests(d, unres, res)
+    shares, steady = implied_shares(d.form, res, settings.confidence, settings.bands,
+                                    settings.points)
+    un_shares, cross = unrestricted_shares(d.form, unres, settings.confidence)
+    notes = []
+    if not steady:
+        notes.append("The restricted estimates imply non-diminishing returns to the accumulable "
+                     "factors (shares summing to 1 or more): no steady state exists, and the "
+                     "implied shares are not ordinary numbers.")
+    return EquationFindings(
+        equation=d.equation, sample=d.sample, form_key=d.form.key,
+        description=d.form.description, restriction_text=d.form.restriction_text,
+        economies=d.economies, dropped=cell.selection.dropped,
+        n_in_sample=cell.selection.n_in_sample, unrestricted=unres, restricted=res,
+        f_test=f_test, wald_test=wald, shares=shares, unrestricted_shares=un_shares,
+        crosscheck=cross, steady_state=steady, notes=tuple(notes))
+
+
+def _versions() -> dict[str, str]:
+    out = {"python": platform.python_version()}
+    for name in _VERSIONED:
+        try:
+            out[name] = metadata.version(name)
+        except metadata.PackageNotFoundError:
+            out[name] = "not installed"
+    return out
+
+
+def caveats(spec: Spec, table: EconomyTable) -> tuple[str, ...]:
+    b = spec.body
+    return (
+        "The equations assume every economy is in or near its own steady state, with the same "
+        "technology growth g and depreciation delta and a common production function; the "
+        "investment and workforce-growth rates are treated as exogenous to income.",
+        f"g + delta is an assumption, not data: this run uses {b.assumptions.g_plus_delta:g}. "
+        "Results, the restriction test in particular, can move with it.",
+        f"Data: '{table.path.name}' (SHA-256 {table.sha256[:12]}...), {table.n_economies} "
+        "economies; the estimates describe this vintage and these samples only.",
+        "Implied shares use the delta method; in small samples its intervals can be poor, so "
+        "compare the endpoint-mapped interval where one is shown.",
+        "Cross-country regressions describe associations across economies; they do not by "
+        "themselves say what a policy would do in any one of them.",
+    )
+
+
+def run(spec: Spec | str | Path) -> Findings:
+    """Estimate every equation on every sample of ``spec`` and return the findings.
+
+    Parameters
+    ----------
+    spec
+        A :class:`~steadyfit.spec.Spec` or the path of a TOML spec.
+    """
+    p = plan(spec)
+    settings = settings_of(p.spec)
+    results = tuple(estimate_cell(cell, settings) for cell in p.cells)
+    seen: dict[str, SampleSummary] = {}
+    for cell in p.cells:
+        sel = cell.selection
+        seen.setdefault(sel.sample, SampleSummary(sel.sample, sel.filter, sel.n_in_sample))
+    prov = Provenance(
+        spec_path=str(p.spec.path) if p.spec.path else None,
+        spec_sha256=p.spec.sha256,
+        data_path=str(p.table.path),
+        data_sha256=p.table.sha256,
+        data_rows=p.table.n_economies,
+        versions=_versions(),
+    )
+    return Findings(
+        title=p.spec.body.title,
+        spec_stem=p.spec.stem,
+        settings=settings,
+        samples=tuple(seen.values()),
+        results=results,
+        warnings=p.table.warnings,
+        provenance=prov,
+        caveats=caveats(p.spec, p.table),
+    )
+
+
+def default_output_root(spec: Spec) -> Path:
+    folder = spec.body.output.folder
+    return (spec.base_dir / folder) if folder else Path("reports")

@@ -1,0 +1,1 @@
+"""Renderers: findings -> tables -> text, Markdown and the run folder."""

@@ -1,0 +1,82 @@
+"""Markdown rendering: summary.md of a run folder, and an HTML fragment for notebooks."""
+
+from __future__ import annotations
+
+import html
+
+from ..findings import Findings
+from .tables import Table, all_tables, format_cell, verdict_lines
+
+
+def _md_escape(text: str) -> str:
+    return text.replace("|", "\\|").replace("<", "&lt;").replace(">", "&gt;")
+
+
+def render_table_md(table: Table, digits: int = 3) -> str:
+    head = [table.stub] + [" / ".join(c) for c in table.columns]
+    out = [f"### {table.title}", "", "| " + " | ".join(_md_escape(h) for h in head) + " |",
+           "|" + "|".join([":---"] + ["---:"] * len(table.columns)) + "|"]
+    for row in table.rows:
+        texts = [format_cell(c, digits) for c in row.cells]
+        if row.section:
+            out.append(f"| *{_md_escape(row.section)}* |" + " |" * len(table.columns))
+        out.append("| " + " | ".join([_md_escape(row.label)] +
+                                     [_md_escape(t) for t, _ in texts]) + " |")
+        if any(se is not None for _, se in texts):
+            out.append("| " + " | ".join([""] + [se or "" for _, se in texts]) + " |")
+    if table.notes:
+        out.append("")
+        out += [f"{_md_escape(n)}  " for n in table.notes]
+    return "\n".join(out)
+
+
+def render_markdown(findings: Findings, run_id: str | None = None) -> str:
+    """The run's summary.md: verdicts first, then tables, caveats and provenance."""
+    s = findings.settings
+    p = findings.provenance
+    out = [f"# {_md_escape(findings.title)}", ""]
+    if run_id:
+        out += [f"Run `{run_id}`.", ""]
+    out += ["## Verdicts", ""]
+    out += [f"- {_md_escape(v)}" for v in verdict_lines(findings)]
+    for r in findings.results:
+        out += [f"- {_md_escape(r.column)}: {_md_escape(n)}" for n in r.notes]
+    if findings.warnings:
+        out += ["", "## Warnings", ""] + [f"- {_md_escape(w)}" for w in findings.warnings]
+    for table in all_tables(findings):
+        out += ["", render_table_md(table)]
+    out += ["", "## Caveats", ""] + [f"- {_md_escape(c)}" for c in findings.caveats]
+    out += ["", "## Settings and provenance", "",
+            f"- g + delta: {s.g_plus_delta:g}; covariance: {s.covariance}"
+            + (f" (clusters: '{s.cluster}')" if s.cluster else "")
+            + f"; confidence: {s.confidence:g}; non-positive values: {s.non_positive}",
+            f"- spec: `{p.spec_path}` (SHA-256 `{p.spec_sha256}`)",
+            f"- data: `{p.data_path}` (SHA-256 `{p.data_sha256}`, {p.data_rows} rows)",
+            "- versions: " + ", ".join(f"{k} {v}" for k, v in p.versions.items()), ""]
+    return "\n".join(out)
+
+
+def render_table_html(table: Table, digits: int = 3) -> str:
+    e = html.escape
+    head = "".join(f"<th>{e(' / '.join(c))}</th>" for c in table.columns)
+    body = []
+    for row in table.rows:
+        texts = [format_cell(c, digits) for c in row.cells]
+        if row.section:
+            body.append(f"<tr><th colspan='{len(texts) + 1}' style='text-align:left'><em>"
+                        f"{e(row.section)}</em></th></tr>")
+        cells = "".join(f"<td>{e(t)}" + (f"<br><small>{e(se)}</small>" if se else "") + "</td>"
+                        for t, se in texts)
+        body.append(f"<tr><th style='text-align:left'>{e(row.label)}</th>{cells}</tr>")
+    return (f"<table><caption>{e(table.title)}</caption><thead><tr><th>{e(table.stub)}</th>"
+            f"{head}</tr></thead><tbody>{''.join(body)}</tbody></table>")
+
+
+def render_html_fragment(findings: Findings) -> str:
+    """A notebook view: verdicts and the key tables as HTML."""
+    from .tables import coefficient_table, shares_table
+
+    items = "".join(f"<li>{html.escape(v)}</li>" for v in verdict_lines(findings))
+    tables = "".join(render_table_html(t) for t in (shares_table(findings),
+                                                   coefficient_table(findings, False)))
+    return f"<div><h4>{html.escape(findings.title)}</h4><ul>{items}</ul>{tables}</div>"

@@ -1,0 +1,332 @@
+"""The run specification: schema, TOML loading and error messages that name the key.
+
+A spec is a small TOML file.  :func:`load_spec` reads and validates it into a
+frozen :class:`Spec`; :func:`spec_from_dict` does the same for a dictionary (for
+notebooks).  Every problem raises :class:`~steadyfit.errors.InputError` naming
+the key path (``equation[2].capital``, positions counted from 1) and, when
+the spec came from a file, its line.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import re
+import tomllib
+from collections.abc import Mapping
+from pathlib import Path
+from typing import Any, Literal, get_args
+
+from pydantic import BaseModel, ConfigDict, Field, ValidationError, field_validator, model_validator
+
+from . import equations
+from .errors import InputError, did_you_mean, one_of
+
+Unit = Literal["percent", "fraction"]
+Covariance = Literal["classical", "HC0", "HC1", "HC2", "HC3", "cluster"]
+NonPositive = Literal["error", "drop"]
+COVARIANCES: tuple[str, ...] = get_args(Covariance)
+RATE_VARIABLES = ("invest", "schooling", "workforce_growth")
+_NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_\-]*$")
+
+
+class _Record(BaseModel):
+    model_config = ConfigDict(extra="forbid", frozen=True)
+
+
+class ColumnMap(_Record):
+    """Model variable -> column of the data table."""
+
+    income: str = Field(description="output per worker at the end of the span")
+    invest: str = Field(description="share of output invested in physical capital")
+    workforce_growth: str = Field(description="growth rate of the workforce")
+    schooling: str | None = Field(None, description="share invested in human capital")
+    human_stock: str | None = Field(None, description="stock of human capital per worker")
+    income_start: str | None = Field(None, description="output per worker at the start")
+
+
+class UnitMap(_Record):
+    """Declared unit of each rate column."""
+
+    invest: Unit | None = None
+    schooling: Unit | None = None
+    workforce_growth: Unit | None = None
+
+
+class DataSpec(_Record):
+    file: str
+    id: str
+    columns: ColumnMap
+    units: UnitMap = UnitMap()
+    non_positive: NonPositive = "error"
+
+    @model_validator(mode="after")
+    def _units_declared(self) -> DataSpec:
+        for var in RATE_VARIABLES:
+            if getattr(self.columns, var) is not None and getattr(self.units, var) is None:
+                raise ValueError(
+                    f"units.{var}: the unit of '{var}' must be declared as \"percent\" or "
+                    f"\"fraction\" (it is never guessed)")
+        return self
+
+
+class Assumptions(_Record):
+    g_plus_delta: float = Field(0.05, gt=0, lt=1)
+    span_years: float | None = Field(None, gt=0)
+
+
+class EquationSpec(_Record):
+    name: str
+    form: str = "levels"
+    capital: tuple[str, ...] = ("physical",)
+    samples: tuple[str, ...] | None = None
+
+    @field_validator("name")
+    @classmethod
+    def _name_ok(cls, v: str) -> str:
+        if not _NAME.match(v):
+            raise ValueError(f"'{v}' must start with a letter and hold only letters, digits, _ and -")
+        return v
+
+    @model_validator(mode="after")
+    def _form_known(self) -> EquationSpec:
+        equations.find_form(self.form, self.capital)  # raises ValueError with the options
+        return self
+
+
+class InferenceSpec(_Record):
+    covariance: Covariance = "classical"
+    cluster: str | None = None
+    confidence: float = Field(0.95, gt=0.5, lt=1)
+
+    @model_validator(mode="after")
+    def _cluster_named(self) -> InferenceSpec:
+        if self.covariance == "cluster" and not self.cluster:
+            raise ValueError("cluster: covariance = \"cluster\" needs cluster = \"<column>\"")
+        if self.covariance != "cluster" and self.cluster:
+            raise ValueError("cluster: a cluster column is given but covariance is not \"cluster\"")
+        return self
+
+
+class PlausibleSpec(_Record):
+    """Plausibility bands and test points for the implied shares (DOMAIN.md section 6)."""
+
+    alpha: tuple[float, float] = (0.25, 0.40)
+    beta: tuple[float, float] = (0.20, 0.45)
+    alpha_point: float = 1 / 3
+    beta_point: float = 1 / 3
+
+    @field_validator("alpha", "beta")
+    @classmethod
+    def _band_ordered(cls, v: tuple[float, float]) -> tuple[float, float]:
+        if not (0 <= v[0] < v[1] <= 1):
+            raise ValueError(f"a band is [low, high] with 0 <= low < high <= 1, not {list(v)}")
+        return v
+
+    def band(self, param: str) -> tuple[float, float] | None:
+        return getattr(self, param, None) if param in ("alpha", "beta") else None
+
+    def point(self, param: str) -> float | None:
+        return getattr(self, f"{param}_point", None) if param in ("alpha", "beta") else None
+
+
+class OutputSpec(_Record):
+    folder: str | None = None
+
+
+class SpecBody(_Record):
+    title: str = "steadyfit run"
+    data: DataSpec
+    assumptions: Assumptions = Assumptions()
+    samples: dict[str, str] = Field(default_factory=lambda: {"all": ""})
+    equation: tuple[EquationSpec, ...] = Field(min_length=1)
+    inference: InferenceSpec = InferenceSpec()
+    plausible: PlausibleSpec = PlausibleSpec()
+    output: OutputSpec = OutputSpec()
+
+    @field_validator("samples")
+    @classmethod
+    def _samples_ok(cls, v: dict[str, str]) -> dict[str, str]:
+        if not v:
+            raise ValueError("at least one sample is needed (an empty filter \"\" selects all)")
+        for name in v:
+            if not _NAME.match(name):
+                raise ValueError(f"sample name '{name}' must start with a letter and hold only "
+                                 "letters, digits, _ and -")
+        return v
+
+    @model_validator(mode="after")
+    def _cross_refs(self) -> SpecBody:
+        names = [e.name for e in self.equation]
+        for i, eq in enumerate(self.equation, 1):
+            if names.count(eq.name) > 1:
+                raise ValueError(f"equation[{i}].name: the name '{eq.name}' is used twice")
+            for s in eq.samples or ():
+                if s not in self.samples:
+                    raise ValueError(f"equation[{i}].samples: unknown sample '{s}'"
+                                     f"{did_you_mean(s, self.samples)}")
+            form = equations.find_form(eq.form, eq.capital)
+            for var in form.needs:
+                if getattr(self.data.columns, var, None) is None:
+                    raise ValueError(f"equation[{i}]: form '{form.key}' needs the column "
+                                     f"mapping data.columns.{var}")
+            if form.needs_span and self.assumptions.span_years is None:
+                raise ValueError(f"equation[{i}]: form '{form.key}' needs assumptions.span_years")
+        return self
+
+
+class Spec:
+    """A validated spec with its origin (file, folder for relative paths, hash)."""
+
+    def __init__(self, body: SpecBody, base_dir: Path, path: Path | None, text: str) -> None:
+        self.body = body
+        self.base_dir = base_dir
+        self.path = path
+        self.text = text
+        self.sha256 = hashlib.sha256(text.encode()).hexdigest()
+
+    def __repr__(self) -> str:
+        return f"Spec({self.body.title!r}, path={self.path})"
+
+    @property
+    def stem(self) -> str:
+        return self.path.stem if self.path else "spec"
+
+    @property
+    def data_path(self) -> Path:
+        return (self.base_dir / self.body.data.file).resolve()
+
+    def equation_samples(self, eq: EquationSpec) -> tuple[str, ...]:
+        return eq.samples if eq.samples else tuple(self.body.samples)
+
+
+def load_spec(path: str | Path) -> Spec:
+    """Read and validate a TOML spec; relative paths inside resolve against its folder."""
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise InputError(f"spec file '{path}' does not exist") from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(f"cannot read spec file '{path}': {exc}") from None
+    try:
+        raw = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"malformed TOML: {exc}", str(path)) from None
+    return _validate(raw, path.parent.resolve(), path, text)
+
+
+def spec_from_dict(raw: Mapping[str, Any], base_dir: str | Path = ".") -> Spec:
+    """Validate a spec given as a dictionary (the parsed form of the TOML)."""
+    return _validate(dict(raw), Path(base_dir).resolve(), None, repr(sorted(raw.items(), key=str)))
+
+
+def _validate(raw: dict[str, Any], base_dir: Path, path: Path | None, text: str) -> Spec:
+    try:
+        body = SpecBody.model_validate(raw)
+    except ValidationError as exc:
+        err = exc.errors()[0]
+        loc = tuple(err["loc"])
+        message, loc = _message(err, loc)
+        where = _loc_text(loc)
+        line = _locate(text, loc) if path is not None else None
+        prefix = f"{path.name}" if path is not None else "spec"
+        if line:
+            prefix += f" line {line}"
+        raise InputError(message, f"{prefix}: {where}" if where else prefix) from None
+    return Spec(body, base_dir, path, text)
+
+
+def _message(err: Mapping[str, Any], loc: tuple[Any, ...]) -> tuple[str, tuple[Any, ...]]:
+    kind = err["type"]
+    if kind == "extra_forbidden":
+        key = loc[-1]
+        allowed = _fields_at(SpecBody, loc[:-1])
+        return f"unknown key '{key}'{did_you_mean(str(key), allowed)}", loc
+    if kind == "missing":
+        return "this key is required", loc
+    if kind == "literal_error":
+        expected = re.findall(r"'([^']*)'", str(err.get("ctx", {}).get("expected", "")))
+        return one_of(err.get("input"), expected), loc
+    msg = str(err["msg"])
+    msg = re.sub(r"^(Value|Assertion) error, ", "", msg)
+    # validators that know a deeper key say so as "key.path: message"
+    m = re.match(r"^([A-Za-z_][\w.\[\]]*): (.*)$", msg)
+    if m and kind == "value_error":
+        inner = tuple(_split_loc(m.group(1)))
+        return m.group(2), tuple(loc) + inner if not inner or inner[0] != "equation" else inner
+    return msg, loc
+
+
+def _split_loc(text: str) -> list[Any]:
+    out: list[Any] = []
+    for part in text.split("."):
+        m = re.match(r"^(\w+)\[(\d+)\]$", part)
+        if m:
+            out += [m.group(1), int(m.group(2)) - 1]
+        else:
+            out.append(part)
+    return out
+
+
+def _fields_at(model: type[BaseModel], loc: tuple[Any, ...]) -> list[str]:
+    current: Any = model
+    for part in loc:
+        if isinstance(part, int):
+            continue
+        field = getattr(current, "model_fields", {}).get(part)
+        if field is None:
+            return []
+        ann = field.annotation
+        candidates = [ann, *get_args(ann)]
+        for arg in list(candidates):
+            candidates += list(get_args(arg))
+        current = next((c for c in candidates if isinstance(c, type) and issubclass(c, BaseModel)),
+                       None)
+        if current is None:
+            return []
+    return list(getattr(current, "model_fields", {}))
+
+
+def _loc_text(loc: tuple[Any, ...]) -> str:
+    out = ""
+    for part in loc:
+        if isinstance(part, int):
+            out += f"[{part + 1}]"
+        else:
+            out += ("." if out else "") + str(part)
+    return out
+
+
+def _locate(text: str, loc: tuple[Any, ...]) -> int | None:
+    """Best-effort line number (from 1) of a key path in TOML text."""
+    lines = text.splitlines()
+    names = [p for p in loc if not isinstance(p, int)]
+    index = next((p for p in loc if isinstance(p, int)), None)
+    # longest table header that is a prefix of the path
+    for depth in range(len(names), 0, -1):
+        header = ".".join(names[:depth])
+        pattern = re.compile(rf"^\s*\[\[?\s*{re.escape(header)}\s*\]\]?\s*(#.*)?$")
+        hits = [i for i, ln in enumerate(lines) if pattern.match(ln)]
+        if not hits:
+            continue
+        start = hits[index] if (index is not None and names[0] == names[:depth][0]
+                                and len(hits) > index and lines[hits[0]].strip().startswith("[["))\
+            else hits[0]
+        rest = names[depth:]
+        if not rest:
+            return start + 1
+        key = re.compile(rf"^\s*{re.escape(str(rest[0]))}\s*=")
+        for j in range(start + 1, len(lines)):
+            if lines[j].lstrip().startswith("["):
+                break
+            if key.match(lines[j]):
+                return j + 1
+        return start + 1
+    if names:
+        key = re.compile(rf"^\s*{re.escape(str(names[0]))}\s*=")
+        for j, ln in enumerate(lines):
+            if ln.lstrip().startswith("["):
+                break
+            if key.match(ln):
+                return j + 1
+    return None
