@@ -37,7 +37,8 @@ def _parser() -> argparse.ArgumentParser:
                            "(default: ./steadyfit-demo)")
     demo.add_argument("--quiet", action="store_true", help="print only the run folder's path")
     for sp in (run, check, demo):
-        sp.add_argument("--debug", action="store_true", help=argparse.SUPPRESS)
+        sp.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
+                        help=argparse.SUPPRESS)
     return p
 
 

@@ -97,10 +97,10 @@ def _tokenize(text: str) -> list[tuple[str, str, int]]:
         if not m or m.end() == pos:
             raise ValueError(f"unexpected character {text[pos:].lstrip()[:1]!r} at position {pos + 1}")
         kind = m.lastgroup or ""
-        value = m.group(kind)
+        value, start = m.group(kind), m.start(kind)
         if kind == "name" and value in _KEYWORDS:
             kind = "keyword"
-        tokens.append((kind, value, m.start(kind) + 1))
+        tokens.append((kind, value, start + 1))
         pos = m.end()
     return tokens
 

@@ -3,19 +3,23 @@
 from __future__ import annotations
 
 import html
+import re
 
 from ..findings import Findings
 from .tables import Table, all_tables, format_cell, verdict_lines
 
 
 def _md_escape(text: str) -> str:
-    return text.replace("|", "\\|").replace("<", "&lt;").replace(">", "&gt;")
+    """Escape table pipes and anything a Markdown viewer could take for an HTML tag."""
+    text = text.replace("&", "&amp;") if re.search(r"&\w+;", text) else text
+    return re.sub(r"<(?=[A-Za-z/!?])", "&lt;", text.replace("|", "\\|"))
 
 
 def render_table_md(table: Table, digits: int = 3) -> str:
     head = [table.stub] + [" / ".join(c) for c in table.columns]
     out = [f"### {table.title}", "", "| " + " | ".join(_md_escape(h) for h in head) + " |",
-           "|" + "|".join([":---"] + ["---:"] * len(table.columns)) + "|"]
+           "|" + "|".join([":---"] + [":---" if t else "---:" for t in table.text_columns()])
+           + "|"]
     for row in table.rows:
         texts = [format_cell(c, digits) for c in row.cells]
         if row.section:

@@ -47,6 +47,11 @@ class Table:
     rows: tuple[Row, ...]
     notes: tuple[str, ...] = ()
 
+    def text_columns(self) -> tuple[bool, ...]:
+        """Per column: True when every cell is text (renderers align those to the left)."""
+        return tuple(all(r.cells[j].kind in ("text", "empty") for r in self.rows)
+                     for j in range(len(self.columns)))
+
 
 def format_number(x: float, digits: int = 3) -> str:
     if x is None or (isinstance(x, float) and math.isnan(x)):
@@ -198,7 +203,7 @@ def shares_table(findings: Findings) -> Table:
             first = False
     cols = (("share",), ("estimate",), ("s.e.",), (f"{pct}% interval (delta)",),
             (f"{pct}% interval (endpoints)",), ("plausible band",), ("verdict",),
-            ("p, share = point",))
+            ("p (share = point)",))
     pts = ", ".join(f"{k} = {v:.4g}" for k, v in findings.settings.points.items())
     notes = ("Verdict: 'inside' when the whole interval lies in the band, 'overlaps' when they "
              "share some values, 'outside' when they share none.",
@@ -213,14 +218,18 @@ def crosscheck_table(findings: Findings) -> Table:
     rows = []
     for r in findings.results:
         c = r.crosscheck
+        shares = ", ".join(f"{e.name} {format_number(e.value)} ({format_number(e.se)})"
+                           for e in r.unrestricted_shares)
         rows.append(Row(r.column, (
+            Cell("text", shares),
             Cell("text", c.quantity),
             Cell("number", c.from_rates.value, c.from_rates.se),
             Cell("number", c.from_growth.value, c.from_growth.se),
             Cell("number", c.gap.value, c.gap.se),
             Cell("pvalue", c.test.pvalue),
         )))
-    cols = (("quantity",), ("from investment slopes",), ("from n+g+d slope",), ("difference",),
+    cols = (("shares from investment slopes (s.e.)",), ("quantity",),
+            ("from investment slopes",), ("from n+g+d slope",), ("difference",),
             ("p-value",))
     note = ("The unrestricted slopes imply the same share twice: once from the investment "
             "slopes and once from the n+g+d slope. A small p-value says the two disagree.")
@@ -245,6 +254,29 @@ def samples_table(findings: Findings) -> Table:
         rows.append(Row(r.column, (Cell("text", f"used ({len(r.dropped)} dropped)"),
                                    Cell("integer", r.nobs)), section=None))
     return Table("samples", "Samples", "sample", (("filter",), ("economies",)), tuple(rows))
+
+
+def compact_table(findings: Findings) -> Table:
+    """One line per equation and sample: the numbers a reader looks at first."""
+    rows = []
+    for r in findings.results:
+        cells: list[Cell] = [Cell("integer", r.nobs), Cell("pvalue", r.f_test.pvalue)]
+        for name in ("alpha", "beta"):
+            v = r.share(name)
+            cells.append(share_cell(v, r.steady_state) if v else Cell("text", "-"))
+            cells.append(_interval(v.estimate) if v and r.steady_state else Cell("text", ""))
+            cells[-2] = Cell(cells[-2].kind, cells[-2].value)
+        status = "; ".join(f"{v.name} {v.band_status}" for v in r.shares if v.band_status)
+        if not r.steady_state:
+            status = "no steady state"
+        cells.append(Cell("text", status))
+        rows.append(Row(r.column, tuple(cells)))
+    pct = round(findings.settings.confidence * 100)
+    cols = (("N",), ("p restr.",), ("alpha",), (f"{pct}% interval",), ("beta",),
+            (f"{pct}% interval",), ("against the bands",))
+    return Table("key_results", "Key results", "equation / sample", cols, tuple(rows),
+                 ("p restr.: F test of the constant-returns restriction. Shares from the "
+                  "restricted fit, delta-method intervals.",))
 
 
 def all_tables(findings: Findings) -> tuple[Table, ...]:

@@ -24,30 +24,33 @@ def _lines(table: Table, digits: int) -> list[list[str]]:
 
 
 def render_table_text(table: Table, digits: int = 3, width: int = 100) -> str:
+    """A table as aligned plain text: text columns to the left, numbers to the right."""
     lines = _lines(table, digits)
     n_head = max((len(c) for c in table.columns), default=1)
     widths = [max(len(line[i]) for line in lines) for i in range(len(lines[0]))]
-    out = [table.title, "=" * min(width, max(len(table.title), sum(widths) + 2 * len(widths)))]
-    for k, line in enumerate(lines):
-        cells = [line[0].ljust(widths[0])] + [t.rjust(w) for t, w in zip(line[1:], widths[1:],
-                                                                         strict=True)]
-        out.append("  ".join(cells).rstrip())
-        if k == n_head - 1:
-            out.append("-" * len(out[-2 if len(out) > 2 else -1]))
+    left = [True, *table.text_columns()]
+    body = []
+    for line in lines:
+        cells = [t.ljust(w) if lft else t.rjust(w)
+                 for t, w, lft in zip(line, widths, left, strict=True)]
+        body.append("  ".join(cells).rstrip())
+    rule = max(len(b) for b in body)
+    out = [table.title, "=" * rule, *body[:n_head], "-" * rule, *body[n_head:]]
     for note in table.notes:
-        out += textwrap.wrap(note, width)
+        out += textwrap.wrap(note, max(width, 60))
     return "\n".join(out)
 
 
 def render_text(findings: Findings, tables: tuple[Table, ...] | None = None) -> str:
-    """The compact terminal view: verdicts, then the key tables."""
-    from .tables import coefficient_table, shares_table, verdict_lines
+    """The compact terminal view: warnings, notes and the key-results table."""
+    from .tables import compact_table
 
-    parts = [findings.title, ""]
-    for line in verdict_lines(findings):
-        parts += textwrap.wrap(line, 100, subsequent_indent="  ")
+    parts = [findings.title]
     for w in findings.warnings:
         parts += textwrap.wrap("warning: " + w, 100, subsequent_indent="  ")
-    for table in tables or (coefficient_table(findings, restricted=False), shares_table(findings)):
+    for r in findings.results:
+        for note in r.notes:
+            parts += textwrap.wrap(f"note ({r.column}): {note}", 100, subsequent_indent="  ")
+    for table in tables or (compact_table(findings),):
         parts += ["", render_table_text(table)]
     return "\n".join(parts)

@@ -1,0 +1,3 @@
+from . import regenerate
+
+print(regenerate())
