@@ -5,8 +5,8 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 import pytest
-from conftest import write_spec
 
+from conftest import write_spec
 from steadyfit.data import load_data, select
 from steadyfit.equations import find_form
 from steadyfit.errors import InputError

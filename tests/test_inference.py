@@ -7,7 +7,7 @@ import pytest
 
 from steadyfit.equations import find_form
 from steadyfit.estimators import fit_ols
-from steadyfit.inference import band_status, delta_method, point_test, normal_estimate
+from steadyfit.inference import band_status, delta_method, normal_estimate, point_test
 
 
 @pytest.fixture(scope="module")

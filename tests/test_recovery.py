@@ -5,9 +5,9 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 import pytest
-from conftest import write_spec
 
 import steadyfit
+from conftest import write_spec
 from steadyfit.demo import TRUE_ALPHA, TRUE_BETA
 
 SPEC = """
@@ -59,7 +59,8 @@ def test_interval_coverage_is_near_nominal(tmp_path):
     reps = 200
     for _ in range(reps):
         _simulate(rng, 80, 0.33, 0.25, 0.3).to_csv(tmp_path / "sim.csv", index=False)
-        spec = steadyfit.load_spec(write_spec(tmp_path, SPEC.split("[[equation]]\nname = \"text")[0]))
+        text = SPEC.split("[[equation]]\nname = \"text")[0]
+        spec = steadyfit.load_spec(write_spec(tmp_path, text))
         e = steadyfit.run(spec).result("aug", "all").share("alpha").estimate
         hits += e.low <= 0.33 <= e.high
     assert 0.90 <= hits / reps <= 0.99

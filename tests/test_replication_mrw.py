@@ -13,6 +13,7 @@ import sys
 
 import numpy as np
 import pytest
+
 from conftest import load_references
 
 REFERENCES = load_references("mrw_1992.toml")

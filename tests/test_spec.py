@@ -3,8 +3,8 @@
 from __future__ import annotations
 
 import pytest
-from conftest import write_spec
 
+from conftest import write_spec
 from steadyfit.errors import InputError
 from steadyfit.spec import load_spec, spec_from_dict
 
@@ -50,7 +50,8 @@ def test_defaults_follow_the_domain_reference(tmp_path):
     (("name = \"basic\"", "name = \"basic\"\ncapital = [\"human_rate\"]"),
      ["equation[1].capital", "takes capital"]),
     (("invest = \"percent\"\n", ""), ["data.units.invest", "must be declared"]),
-    (("invest = \"percent\"", "invest = \"percnt\""), ["data.units.invest", "did you mean 'percent'"]),
+    (("invest = \"percent\"", "invest = \"percnt\""),
+     ["data.units.invest", "did you mean 'percent'"]),
     (("name = \"basic\"", "name = \"basic\"\nsamples = [\"al\"]"),
      ["equation[1].samples", "did you mean 'all'"]),
     (("title = \"t\"", "title = \"t\"\n[inference]\ncovariance = \"cluster\""),
@@ -72,7 +73,8 @@ def test_mistakes_name_the_key(tmp_path, change, fragments):
 
 
 def test_unknown_key_reports_its_line(tmp_path):
-    text = GOOD.replace("[[equation]]\nname = \"basic\"", "[[equation]]\nname = \"basic\"\nfomr = 1")
+    text = GOOD.replace("[[equation]]\nname = \"basic\"",
+                        "[[equation]]\nname = \"basic\"\nfomr = 1")
     line = text.splitlines().index("fomr = 1") + 1
     with pytest.raises(InputError, match=f"line {line}:"):
         load_spec(write_spec(tmp_path, text))

@@ -59,7 +59,10 @@ class Design:
 def _matrix(frame_values: dict[str, np.ndarray], regs: tuple[Regressor, ...], n: int) -> np.ndarray:
     cols = [np.ones(n)]
     for reg in regs:
-        cols.append(sum(w * frame_values[c] for c, w in reg.weights.items()))
+        col = np.zeros(n)
+        for c, w in reg.weights.items():
+            col = col + w * frame_values[c]
+        cols.append(col)
     return np.column_stack(cols)
 
 

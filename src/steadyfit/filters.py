@@ -23,7 +23,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass
-from typing import Any, Union
+from typing import Any
 
 import numpy as np
 import pandas as pd
@@ -84,7 +84,7 @@ class Everything:
     """The empty filter."""
 
 
-Node = Union[Compare, Member, Not, BoolOp, Everything]
+Node = Compare | Member | Not | BoolOp | Everything
 
 
 def _tokenize(text: str) -> list[tuple[str, str, int]]:
@@ -95,7 +95,8 @@ def _tokenize(text: str) -> list[tuple[str, str, int]]:
             break
         m = _TOKEN.match(text, pos)
         if not m or m.end() == pos:
-            raise ValueError(f"unexpected character {text[pos:].lstrip()[:1]!r} at position {pos + 1}")
+            char = text[pos:].lstrip()[:1]
+            raise ValueError(f"unexpected character {char!r} at position {pos + 1}")
         kind = m.lastgroup or ""
         value, start = m.group(kind), m.start(kind)
         if kind == "name" and value in _KEYWORDS:
@@ -259,7 +260,8 @@ def evaluate_filter(node: Node, table: pd.DataFrame, where: str = "filter") -> n
     for name in referenced_columns(node):
         if name not in table.columns:
             hint = did_you_mean(name, [str(c) for c in table.columns])
-            raise InputError(f"the filter reads column '{name}', which the data do not have{hint}", where)
+            raise InputError(f"the filter reads column '{name}', which the data do not "
+                             f"have{hint}", where)
 
     def side(x: Column | Literal) -> Any:
         return table[x.name] if isinstance(x, Column) else x.value
@@ -305,7 +307,8 @@ def _describe(x: Column | Literal, table: pd.DataFrame) -> str:
     return f"value {x.value!r}"
 
 
-def _check_types(a: Column | Literal, b: Column | Literal, table: pd.DataFrame, where: str) -> None:
+def _check_types(a: Column | Literal, b: Column | Literal, table: pd.DataFrame,
+                 where: str) -> None:
     """Refuse comparisons of a numeric column with text (or text with a number)."""
     if not isinstance(a, Column) or not isinstance(b, Literal):
         return

@@ -31,7 +31,8 @@ class TestResult:
     def __str__(self) -> str:
         df = ", ".join(f"{d:g}" for d in self.df)
         dist = f"{self.distribution}({df})" if df else self.distribution
-        return f"{self.name}: {dist} = {self.statistic:.4g}, p = {self.pvalue:.4g} (H0: {self.null})"
+        return (f"{self.name}: {dist} = {self.statistic:.4g}, p = {self.pvalue:.4g} "
+                f"(H0: {self.null})")
 
 
 @dataclass(frozen=True)

@@ -88,11 +88,11 @@ def implied_shares(form: ModelForm, restricted: Fit, confidence: float,
             j = pmap.single[name]
             ends = []
             for bound in coef_ci[j]:
-                point = c.copy()
-                point[j] = bound
-                if pmap.denominator(point) <= 0:
+                at = c.copy()
+                at[j] = bound
+                if pmap.denominator(at) <= 0:
                     break
-                ends.append(float(pmap.forward.value(point)[i]))
+                ends.append(float(pmap.forward.value(at)[i]))
             if len(ends) == 2:
                 exact = (min(ends), max(ends))
         estimates.append(normal_estimate(name, values[i], np.sqrt(cov[i, i]), confidence, exact))

@@ -63,7 +63,7 @@ def settings_of(spec: Spec) -> Settings:
         covariance=b.inference.covariance,
         cluster=b.inference.cluster,
         confidence=b.inference.confidence,
-        bands={"alpha": tuple(b.plausible.alpha), "beta": tuple(b.plausible.beta)},
+        bands={"alpha": b.plausible.alpha, "beta": b.plausible.beta},
         points={"alpha": b.plausible.alpha_point, "beta": b.plausible.beta_point},
         non_positive=b.data.non_positive,
     )

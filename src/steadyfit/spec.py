@@ -56,7 +56,7 @@ class DataSpec(_Record):
     file: str
     id: str
     columns: ColumnMap
-    units: UnitMap = UnitMap()
+    units: UnitMap = Field(default_factory=UnitMap)
     non_positive: NonPositive = "error"
 
     @model_validator(mode="after")
@@ -84,7 +84,8 @@ class EquationSpec(_Record):
     @classmethod
     def _name_ok(cls, v: str) -> str:
         if not _NAME.match(v):
-            raise ValueError(f"'{v}' must start with a letter and hold only letters, digits, _ and -")
+            raise ValueError(f"'{v}' must start with a letter and hold only letters, digits, "
+                             "_ and -")
         return v
 
     @model_validator(mode="after")
@@ -136,12 +137,12 @@ class OutputSpec(_Record):
 class SpecBody(_Record):
     title: str = "steadyfit run"
     data: DataSpec
-    assumptions: Assumptions = Assumptions()
+    assumptions: Assumptions = Field(default_factory=Assumptions)
     samples: dict[str, str] = Field(default_factory=lambda: {"all": ""})
     equation: tuple[EquationSpec, ...] = Field(min_length=1)
-    inference: InferenceSpec = InferenceSpec()
-    plausible: PlausibleSpec = PlausibleSpec()
-    output: OutputSpec = OutputSpec()
+    inference: InferenceSpec = Field(default_factory=InferenceSpec)
+    plausible: PlausibleSpec = Field(default_factory=PlausibleSpec)
+    output: OutputSpec = Field(default_factory=OutputSpec)
 
     @field_validator("samples")
     @classmethod

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Literal
+from typing import Literal, cast
 
 from ..findings import EquationFindings, Estimate, Findings, ShareVerdict
 
@@ -74,7 +74,7 @@ def format_cell(cell: Cell, digits: int = 3) -> tuple[str, str | None]:
         p = float(v)  # type: ignore[arg-type]
         return ("<0.001" if p < 0.001 else f"{p:.3f}"), se
     if cell.kind == "interval":
-        lo, hi = v  # type: ignore[misc]
+        lo, hi = cast(tuple[float | None, float | None], v)
         if lo is None or hi is None:
             return "n/a", se
         return f"[{format_number(lo, digits)}, {format_number(hi, digits)}]", se
