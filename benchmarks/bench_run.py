@@ -1,0 +1,93 @@
+"""Benchmark: a whole run against the bare regressions it contains, timed in the same process.
+
+The baseline is the least any tool must do for the demo spec: read the CSV and
+fit the same unrestricted and restricted OLS regressions with statsmodels.  The
+ratio says what validation, samples, tests, delta method and verdicts add.
+A second figure times `steadyfit --help` against a bare interpreter start.
+
+Run: python benchmarks/bench_run.py [--repeat N]
+"""
+
+from __future__ import annotations
+
+import argparse
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+
+def _best(fn, repeat: int) -> float:
+    times = []
+    for _ in range(repeat):
+        t0 = time.perf_counter()
+        fn()
+        times.append(time.perf_counter() - t0)
+    return min(times)
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser()
+    ap.add_argument("--repeat", type=int, default=7)
+    args = ap.parse_args()
+
+    import numpy as np
+    import pandas as pd
+    import statsmodels.api as sm
+
+    import steadyfit
+    from steadyfit.demo import write_demo
+    from steadyfit.report.runfolder import write_run
+
+    folder = Path(tempfile.mkdtemp())
+    spec_path = write_demo(folder)
+    spec = steadyfit.load_spec(spec_path)
+
+    def baseline() -> None:
+        d = pd.read_csv(folder / "demo_economies.csv")
+        for sample in (d, d[d.resource_exporter == 0],
+                       d[(d.population_start >= 5e6) & d.region.isin(["north", "coast"])]):
+            y = np.log(sample.output_per_worker_end)
+            sk = np.log(sample.investment_share / 100)
+            sh = np.log(sample.secondary_enrolment / 100)
+            ngd = np.log(sample.workforce_growth / 100 + 0.05)
+            sm.OLS(y, sm.add_constant(np.column_stack([sk, ngd]))).fit(cov_type="HC1")
+            sm.OLS(y, sm.add_constant(sk - ngd)).fit(cov_type="HC1")
+            sm.OLS(y, sm.add_constant(np.column_stack([sk, ngd, sh]))).fit(cov_type="HC1")
+            sm.OLS(y, sm.add_constant(np.column_stack([sk - ngd, sh - ngd]))).fit(cov_type="HC1")
+
+    baseline()
+    steadyfit.run(spec)  # warm imports
+    t_base = _best(baseline, args.repeat)
+    t_run = _best(lambda: steadyfit.run(spec), args.repeat)
+    out = Path(tempfile.mkdtemp())
+    findings = steadyfit.run(spec)
+    t_write = _best(lambda: write_run(findings, out, command=["bench"]), args.repeat)
+
+    def cli(argv: list[str]) -> float:
+        return statistics.median(
+            _timed_proc([sys.executable, *argv]) for _ in range(max(3, args.repeat // 2)))
+
+    t_python = cli(["-c", "pass"])
+    t_help = cli(["-m", "steadyfit", "--help"])
+
+    n_cells = len(findings.results)
+    print(f"demo spec: {n_cells} equation x sample cells, {2 * n_cells} regressions")
+    print(f"baseline (read CSV + bare statsmodels fits, 3 samples x 4 fits): {t_base * 1e3:8.1f} ms")
+    print(f"steadyfit.run (validate, samples, fits, tests, delta method):   {t_run * 1e3:8.1f} ms"
+          f"   ratio {t_run / t_base:5.2f}")
+    print(f"write_run (summary.md, tables, results.json, inputs):         {t_write * 1e3:8.1f} ms")
+    print(f"python -c pass: {t_python * 1e3:6.0f} ms; steadyfit --help: {t_help * 1e3:6.0f} ms"
+          f"   ratio {t_help / t_python:5.2f}")
+
+
+def _timed_proc(argv: list[str]) -> float:
+    t0 = time.perf_counter()
+    subprocess.run(argv, check=True, capture_output=True)
+    return time.perf_counter() - t0
+
+
+if __name__ == "__main__":
+    main()
