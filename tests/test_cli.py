@@ -126,3 +126,15 @@ def test_demo_refuses_to_overwrite_a_different_file(tmp_path):
     proc = steadyfit("demo", "--out", tmp_path / "d")
     assert proc.returncode == 2 and "differs" in proc.stderr
     assert (tmp_path / "d" / "demo.toml").read_text() == "mine"
+
+
+def test_repository_demo_spec_matches_the_shipped_one():
+    """specs/demo.toml is the packaged demo spec with only the data path changed."""
+    from steadyfit.demo import SPEC_FILE, shipped_file
+
+    root = Path(__file__).parent.parent
+    ours = (root / "specs" / "demo.toml").read_text().splitlines()
+    shipped = shipped_file(SPEC_FILE).read_text().splitlines()
+    diff = [(a, b) for a, b in zip(ours, shipped, strict=True) if a != b]
+    assert diff == [('file = "../src/steadyfit/demo/demo_economies.csv"',
+                     'file = "demo_economies.csv"')]

@@ -142,10 +142,6 @@ LN_SH = _reg("ln_sh", "ln(s_h)")
 LN_H = _reg("ln_h", "ln(h)")
 
 
-def _arr(*rows: list[float]) -> Vector:
-    return np.array(rows, dtype=float)
-
-
 # --- share = c / (1 + c) and friends -------------------------------------------------------
 
 def _ratio_map(name: str) -> VectorMap:
@@ -153,7 +149,7 @@ def _ratio_map(name: str) -> VectorMap:
     return VectorMap(
         (name,),
         lambda c: np.array([c[0] / (1 + c[0])]),
-        lambda c: _arr([1 / (1 + c[0]) ** 2]),
+        lambda c: np.array([[1 / (1 + c[0]) ** 2]]),
     )
 
 
@@ -214,6 +210,9 @@ def _stock_map(k: int, h: int, size: int) -> VectorMap:
 
 def _levels_physical() -> ModelForm:
     forward = _ratio_map("alpha")
+    # unrestricted order: ln_sk (0), ln_ngd (1); alpha from the investment slope alone
+    from_invest = VectorMap(("alpha",), lambda c: forward.value(c[:1]),
+                            lambda c: np.hstack([forward.jacobian(c[:1]), [[0.0]]]))
     return ModelForm(
         key="levels:physical",
         form="levels",
@@ -231,11 +230,9 @@ def _levels_physical() -> ModelForm:
             single={"alpha": 0},
         ),
         crosscheck=CrossCheck(
-            shares=VectorMap(("alpha",), lambda c: forward.value(c[:1]),
-                             lambda c: np.hstack([forward.jacobian(c[:1]), [[0.0]]])),
+            shares=from_invest,
             quantity="alpha",
-            from_rates=VectorMap(("alpha",), lambda c: forward.value(c[:1]),
-                                 lambda c: np.hstack([forward.jacobian(c[:1]), [[0.0]]])),
+            from_rates=from_invest,
             from_growth=_negative_ratio_map("alpha", 1, 2),
         ),
     )

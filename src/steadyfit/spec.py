@@ -310,9 +310,8 @@ def _locate(text: str, loc: tuple[Any, ...]) -> int | None:
         hits = [i for i, ln in enumerate(lines) if pattern.match(ln)]
         if not hits:
             continue
-        start = hits[index] if (index is not None and names[0] == names[:depth][0]
-                                and len(hits) > index and lines[hits[0]].strip().startswith("[["))\
-            else hits[0]
+        array = lines[hits[0]].lstrip().startswith("[[")
+        start = hits[index] if array and index is not None and index < len(hits) else hits[0]
         rest = names[depth:]
         if not rest:
             return start + 1
