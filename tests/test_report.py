@@ -25,9 +25,12 @@ def test_run_folder_contents(demo_findings, tmp_path):
     folder = write_run(demo_findings, tmp_path, command=["steadyfit", "run", "x"])
     assert folder.parent == tmp_path / "demo"
     names = {p.name for p in folder.iterdir()}
-    assert names == {"summary.md", "results.json", "tables", "inputs"}
+    assert names == {"report.html", "summary.md", "results.json", "tables", "figures", "inputs"}
     assert {p.name for p in (folder / "inputs").iterdir()} == {"demo.toml", "demo_economies.csv"}
     assert (folder / "tables" / "implied_shares.md").exists()
+    assert (folder / "tables" / "regressions.tex").exists()
+    assert (folder / "figures" / "implied_shares.svg").exists()
+    assert len(list((folder / "figures").glob("fit_*.svg"))) == len(demo_findings.results)
     assert not [p for p in folder.parent.iterdir() if p.name.startswith(".partial")]
 
 

@@ -1,7 +1,8 @@
 """The command line: thin, it parses arguments and calls the library.
 
 Exit status: 0 success, 2 bad input (one clear line, no traceback unless
-``--debug``), 1 internal error.  Heavy libraries load only inside commands, so
+``--debug``), 3 a replication target missed under ``run --strict``, 1 internal
+error.  Heavy libraries load only inside commands, so
 ``--help`` answers at once.
 """
 
@@ -27,6 +28,8 @@ def _parser() -> argparse.ArgumentParser:
                      help="root folder for run folders (default: the spec's output.folder, "
                           "else ./reports)")
     run.add_argument("--quiet", action="store_true", help="print only the run folder's path")
+    run.add_argument("--strict", action="store_true",
+                     help="exit with status 3 when a replication target is missed")
 
     check = sub.add_parser("check", help="validate a spec and its data without estimating")
     check.add_argument("spec", type=Path, help="the TOML spec")
@@ -36,13 +39,22 @@ def _parser() -> argparse.ArgumentParser:
                       help="folder for the demo files and its run folder "
                            "(default: ./steadyfit-demo)")
     demo.add_argument("--quiet", action="store_true", help="print only the run folder's path")
-    for sp in (run, check, demo):
+
+    comp = sub.add_parser("compare", help="list every quantity that differs between two runs")
+    comp.add_argument("run_a", type=Path, help="a run folder (or its results.json)")
+    comp.add_argument("run_b", type=Path, help="another run folder")
+    comp.add_argument("--tolerance", type=float, default=1e-9,
+                      help="absolute difference below which a quantity counts as unchanged "
+                           "(default 1e-9)")
+    comp.add_argument("--html", type=Path, default=None,
+                      help="also write the comparison as an HTML page to this file")
+    for sp in (run, check, demo, comp):
         sp.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
                         help=argparse.SUPPRESS)
     return p
 
 
-def _run(spec_path: Path, out: Path | None, quiet: bool) -> int:
+def _run(spec_path: Path, out: Path | None, quiet: bool, strict: bool = False) -> int:
     from .pipeline import default_output_root, run
     from .report.runfolder import write_run
     from .report.text import render_text
@@ -60,6 +72,31 @@ def _run(spec_path: Path, out: Path | None, quiet: bool) -> int:
         print(f"run folder: {folder}")
     else:
         print(folder)
+    missed = [t for t in findings.scorecard if not t.met]
+    if missed:
+        print(f"steadyfit: {len(missed)} of {len(findings.scorecard)} replication targets "
+              "missed: " + "; ".join(f"{t.equation}/{t.sample} {t.quantity}" for t in missed),
+              file=sys.stderr)
+        if strict:
+            return 3
+    return 0
+
+
+def _compare(a: Path, b: Path, tolerance: float, html_out: Path | None) -> int:
+    from .compare import compare_runs, render_comparison_html, render_comparison_text
+    from .errors import InputError
+
+    comparison = compare_runs(a, b, tolerance)
+    print(render_comparison_text(comparison))
+    if html_out is not None:
+        if html_out.exists() and html_out.is_dir():
+            raise InputError(f"'{html_out}' is a folder; give a file name", "--html")
+        if not html_out.parent.exists():
+            raise InputError(f"folder '{html_out.parent}' does not exist", "--html")
+        tmp = html_out.with_name(f".{html_out.name}.partial")
+        tmp.write_text(render_comparison_html(comparison), encoding="utf-8")
+        tmp.replace(html_out)
+        print(f"\ncomparison page: {html_out}")
     return 0
 
 
@@ -100,15 +137,22 @@ def main(argv: Sequence[str] | None = None) -> int:
 
     try:
         if args.command == "run":
-            return _run(args.spec, args.out, args.quiet)
+            return _run(args.spec, args.out, args.quiet, args.strict)
         if args.command == "check":
             return _check(args.spec)
+        if args.command == "compare":
+            return _compare(args.run_a, args.run_b, args.tolerance, args.html)
         return _demo(args.out, args.quiet)
     except InputError as exc:
         if args.debug:
             raise
         print(f"steadyfit: error: {exc}", file=sys.stderr)
         return 2
+    except BrokenPipeError:  # output piped into a reader that stopped early (head, less)
+        import os
+
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return 0
     except KeyboardInterrupt:
         print("steadyfit: interrupted", file=sys.stderr)
         return 130

@@ -8,6 +8,8 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Literal
 
+import numpy as np
+
 from .data import Dropped
 from .estimators import Fit
 
@@ -83,6 +85,19 @@ class CrossCheckResult:
 
 
 @dataclass(frozen=True)
+class Observations:
+    """The estimation sample of one result, for figures: log income and the regressors.
+
+    ``x`` is the unrestricted design (constant first), columns named like the
+    unrestricted fit's coefficients.
+    """
+
+    economies: tuple[str, ...]
+    y: np.ndarray
+    x: np.ndarray
+
+
+@dataclass(frozen=True)
 class EquationFindings:
     """Everything estimated for one equation on one sample."""
 
@@ -102,6 +117,7 @@ class EquationFindings:
     unrestricted_shares: tuple[Estimate, ...]
     crosscheck: CrossCheckResult
     steady_state: bool
+    observations: Observations
     notes: tuple[str, ...] = ()
 
     @property
@@ -114,6 +130,27 @@ class EquationFindings:
 
     def share(self, name: str) -> ShareVerdict | None:
         return next((s for s in self.shares if s.name == name), None)
+
+
+@dataclass(frozen=True)
+class TargetCheck:
+    """A published value compared with ours."""
+
+    equation: str
+    sample: str
+    quantity: str
+    published: float
+    ours: float
+    tolerance: float
+    source: str
+
+    @property
+    def difference(self) -> float:
+        return self.ours - self.published
+
+    @property
+    def met(self) -> bool:
+        return bool(abs(self.difference) <= self.tolerance)
 
 
 @dataclass(frozen=True)
@@ -135,6 +172,8 @@ class Settings:
     bands: dict[str, tuple[float, float]]
     points: dict[str, float]
     non_positive: str
+    digits: int = 3
+    stars: bool = False
 
 
 @dataclass(frozen=True)
@@ -159,6 +198,11 @@ class Findings:
     warnings: tuple[str, ...]
     provenance: Provenance
     caveats: tuple[str, ...] = field(default=())
+    scorecard: tuple[TargetCheck, ...] = ()
+
+    @property
+    def targets_met(self) -> bool:
+        return all(t.met for t in self.scorecard)
 
     def result(self, equation: str, sample: str) -> EquationFindings:
         for r in self.results:

@@ -16,8 +16,17 @@ from . import equations
 from .data import EconomyTable, Selection, load_data, select
 from .design import Design, build_design
 from .estimators import fit_ols
-from .findings import EquationFindings, Findings, Provenance, SampleSummary, Settings
+from .findings import (
+    EquationFindings,
+    Findings,
+    Observations,
+    Provenance,
+    SampleSummary,
+    Settings,
+    TargetCheck,
+)
 from .inference import implied_shares, restriction_tests, unrestricted_shares
+from .quantities import quantities
 from .spec import Spec, load_spec
 
 _VERSIONED = ("steadyfit", "numpy", "scipy", "pandas", "statsmodels", "pydantic")
@@ -66,6 +75,8 @@ def settings_of(spec: Spec) -> Settings:
         bands={"alpha": b.plausible.alpha, "beta": b.plausible.beta},
         points={"alpha": b.plausible.alpha_point, "beta": b.plausible.beta_point},
         non_positive=b.data.non_positive,
+        digits=b.report.digits,
+        stars=b.report.stars,
     )
 
 
@@ -91,7 +102,8 @@ def estimate_cell(cell: PlannedCell, settings: Settings) -> EquationFindings:
         economies=d.economies, dropped=cell.selection.dropped,
         n_in_sample=cell.selection.n_in_sample, unrestricted=unres, restricted=res,
         f_test=f_test, wald_test=wald, shares=shares, unrestricted_shares=un_shares,
-        crosscheck=cross, steady_state=steady, notes=tuple(notes))
+        crosscheck=cross, steady_state=steady,
+        observations=Observations(d.economies, d.y, d.x_unrestricted), notes=tuple(notes))
 
 
 def _versions() -> dict[str, str]:
@@ -144,6 +156,11 @@ def run(spec: Spec | str | Path) -> Findings:
         data_rows=p.table.n_economies,
         versions=_versions(),
     )
+    by_cell = {(r.equation, r.sample): quantities(r) for r in results}
+    scorecard = tuple(
+        TargetCheck(t.equation, t.sample, t.quantity, t.value,
+                    by_cell[(t.equation, t.sample)][t.quantity], t.tolerance, t.source)
+        for t in p.spec.body.target)
     return Findings(
         title=p.spec.body.title,
         spec_stem=p.spec.stem,
@@ -153,6 +170,7 @@ def run(spec: Spec | str | Path) -> Findings:
         warnings=p.table.warnings,
         provenance=prov,
         caveats=caveats(p.spec, p.table),
+        scorecard=scorecard,
     )
 
 

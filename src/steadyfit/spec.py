@@ -20,6 +20,7 @@ from pydantic import BaseModel, ConfigDict, Field, ValidationError, field_valida
 
 from . import equations
 from .errors import InputError, did_you_mean, one_of
+from .quantities import quantity_names
 
 Unit = Literal["percent", "fraction"]
 Covariance = Literal["classical", "HC0", "HC1", "HC2", "HC3", "cluster"]
@@ -134,6 +135,24 @@ class OutputSpec(_Record):
     folder: str | None = None
 
 
+class ReportSpec(_Record):
+    """How numbers are shown: decimal places, and significance marks in LaTeX tables."""
+
+    digits: int = Field(3, ge=0, le=8)
+    stars: bool = False
+
+
+class TargetSpec(_Record):
+    """A published value the run should reproduce, within a tolerance."""
+
+    equation: str
+    sample: str
+    quantity: str
+    value: float
+    tolerance: float = Field(gt=0)
+    source: str = ""
+
+
 class SpecBody(_Record):
     title: str = "steadyfit run"
     data: DataSpec
@@ -143,6 +162,8 @@ class SpecBody(_Record):
     inference: InferenceSpec = Field(default_factory=InferenceSpec)
     plausible: PlausibleSpec = Field(default_factory=PlausibleSpec)
     output: OutputSpec = Field(default_factory=OutputSpec)
+    report: ReportSpec = Field(default_factory=ReportSpec)
+    target: tuple[TargetSpec, ...] = ()
 
     @field_validator("samples")
     @classmethod
@@ -172,6 +193,20 @@ class SpecBody(_Record):
                                      f"mapping data.columns.{var}")
             if form.needs_span and self.assumptions.span_years is None:
                 raise ValueError(f"equation[{i}]: form '{form.key}' needs assumptions.span_years")
+        equations_by_name = {e.name: e for e in self.equation}
+        for i, t in enumerate(self.target, 1):
+            eq = equations_by_name.get(t.equation)
+            if eq is None:
+                raise ValueError(f"target[{i}].equation: unknown equation '{t.equation}'"
+                                 f"{did_you_mean(t.equation, equations_by_name)}")
+            samples = eq.samples or tuple(self.samples)
+            if t.sample not in samples:
+                raise ValueError(f"target[{i}].sample: equation '{t.equation}' does not run on "
+                                 f"sample '{t.sample}'{did_you_mean(t.sample, samples)}")
+            names = quantity_names(equations.find_form(eq.form, eq.capital))
+            if t.quantity not in names:
+                raise ValueError(f"target[{i}].quantity: '{t.quantity}' is not a quantity of "
+                                 f"equation '{t.equation}'{did_you_mean(t.quantity, names)}")
         return self
 
 

@@ -21,7 +21,7 @@ def render_table_md(table: Table, digits: int = 3) -> str:
            "|" + "|".join([":---"] + [":---" if t else "---:" for t in table.text_columns()])
            + "|"]
     for row in table.rows:
-        texts = [format_cell(c, digits) for c in row.cells]
+        texts = [format_cell(c, table.places(digits)) for c in row.cells]
         if row.section:
             out.append(f"| *{_md_escape(row.section)}* |" + " |" * len(table.columns))
         out.append("| " + " | ".join([_md_escape(row.label)] +
@@ -48,7 +48,7 @@ def render_markdown(findings: Findings, run_id: str | None = None) -> str:
     if findings.warnings:
         out += ["", "## Warnings", ""] + [f"- {_md_escape(w)}" for w in findings.warnings]
     for table in all_tables(findings):
-        out += ["", render_table_md(table)]
+        out += ["", render_table_md(table, s.digits)]
     out += ["", "## Caveats", ""] + [f"- {_md_escape(c)}" for c in findings.caveats]
     out += ["", "## Settings and provenance", "",
             f"- g + delta: {s.g_plus_delta:g}; covariance: {s.covariance}"
@@ -60,24 +60,9 @@ def render_markdown(findings: Findings, run_id: str | None = None) -> str:
     return "\n".join(out)
 
 
-def render_table_html(table: Table, digits: int = 3) -> str:
-    e = html.escape
-    head = "".join(f"<th>{e(' / '.join(c))}</th>" for c in table.columns)
-    body = []
-    for row in table.rows:
-        texts = [format_cell(c, digits) for c in row.cells]
-        if row.section:
-            body.append(f"<tr><th colspan='{len(texts) + 1}' style='text-align:left'><em>"
-                        f"{e(row.section)}</em></th></tr>")
-        cells = "".join(f"<td>{e(t)}" + (f"<br><small>{e(se)}</small>" if se else "") + "</td>"
-                        for t, se in texts)
-        body.append(f"<tr><th style='text-align:left'>{e(row.label)}</th>{cells}</tr>")
-    return (f"<table><caption>{e(table.title)}</caption><thead><tr><th>{e(table.stub)}</th>"
-            f"{head}</tr></thead><tbody>{''.join(body)}</tbody></table>")
-
-
 def render_html_fragment(findings: Findings) -> str:
     """A notebook view: verdicts and the key tables as HTML."""
+    from .html import render_table_html
     from .tables import coefficient_table, shares_table
 
     items = "".join(f"<li>{html.escape(v)}</li>" for v in verdict_lines(findings))

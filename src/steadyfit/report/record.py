@@ -8,6 +8,7 @@ from typing import Any
 
 from ..estimators import Fit
 from ..findings import EquationFindings, Estimate, Findings, ShareVerdict, TestResult
+from ..quantities import quantities
 
 FORMAT_VERSION = 1
 
@@ -83,6 +84,7 @@ def _result(r: EquationFindings, confidence: float) -> dict[str, Any]:
                        "from_growth": _estimate(c.from_growth), "gap": _estimate(c.gap),
                        "test": _test(c.test)},
         "notes": list(r.notes),
+        "quantities": {k: _num(v) for k, v in quantities(r).items()},
     }
 
 
@@ -98,11 +100,17 @@ def to_record(findings: Findings, run: dict[str, Any]) -> dict[str, Any]:
             "g_plus_delta": s.g_plus_delta, "span_years": s.span_years,
             "covariance": s.covariance, "cluster": s.cluster, "confidence": s.confidence,
             "bands": {k: list(v) for k, v in s.bands.items()}, "points": s.points,
-            "non_positive": s.non_positive,
+            "non_positive": s.non_positive, "digits": s.digits, "stars": s.stars,
         },
         "samples": [{"name": x.name, "filter": x.filter, "economies": x.n_selected}
                     for x in findings.samples],
         "results": [_result(r, s.confidence) for r in findings.results],
+        "scorecard": [
+            {"equation": t.equation, "sample": t.sample, "quantity": t.quantity,
+             "published": t.published, "ours": _num(t.ours), "difference": _num(t.difference),
+             "tolerance": t.tolerance, "met": t.met, "source": t.source}
+            for t in findings.scorecard],
+        "targets_met": findings.targets_met,
         "warnings": list(findings.warnings),
         "caveats": list(findings.caveats),
         "provenance": asdict(findings.provenance),

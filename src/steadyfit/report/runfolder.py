@@ -12,8 +12,12 @@ import shutil
 import sys
 from datetime import UTC, datetime
 from pathlib import Path
+from typing import Any
 
 from ..findings import Findings
+from .figures import all_figures
+from .html import render_html
+from .latex import render_table_latex
 from .markdown import render_markdown, render_table_md
 from .record import to_record
 from .tables import all_tables
@@ -40,44 +44,51 @@ def write_run(findings: Findings, out_root: str | Path = "reports",
               command: list[str] | None = None) -> Path:
     """Write the run folder ``<out_root>/<spec-stem>/<run-id>/`` and return its path.
 
-    Files: ``summary.md``, ``results.json``, ``tables/*.md`` and ``inputs/``
-    (the spec and, when small, the data file).
+    Files: ``report.html``, ``summary.md``, ``results.json``, ``tables/*.tex``
+    and ``tables/*.md``, ``figures/*.svg``, and ``inputs/`` (the spec and,
+    when small, the data file).
     """
     now = datetime.now(UTC)
     run_id = new_run_id(now)
     root = Path(out_root) / findings.spec_stem
+    created_root = not root.exists()
+    run: dict[str, Any] = {"id": run_id, "created": now.isoformat(timespec="seconds"),
+                           "command": command if command is not None else list(sys.argv)}
+    # everything is rendered before anything is written
+    s = findings.settings
+    tables = all_tables(findings)
+    figures = all_figures(findings)
+    files: dict[str, str] = {
+        "summary.md": render_markdown(findings, run_id),
+        "report.html": render_html(findings, figures, run),
+    }
+    for table in tables:
+        files[f"tables/{table.key}.md"] = render_table_md(table, s.digits) + "\n"
+        files[f"tables/{table.key}.tex"] = render_table_latex(table, s.digits, s.stars)
+    for fig in figures:
+        files[f"figures/{fig.key}.svg"] = fig.svg + "\n"
     root.mkdir(parents=True, exist_ok=True)
     tmp = root / f".partial-{run_id}-{os.getpid()}"
     try:
-        tmp.mkdir()
-        (tmp / "tables").mkdir()
-        (tmp / "inputs").mkdir()
-        _write(tmp / "summary.md", render_markdown(findings, run_id))
-        for table in all_tables(findings):
-            _write(tmp / "tables" / f"{table.key}.md", render_table_md(table) + "\n")
+        for sub in ("tables", "figures", "inputs"):
+            (tmp / sub).mkdir(parents=True)
+        for name, text in files.items():
+            (tmp / name).write_text(text, encoding="utf-8")
         prov = findings.provenance
         if prov.spec_path and Path(prov.spec_path).exists():
             shutil.copyfile(prov.spec_path, tmp / "inputs" / Path(prov.spec_path).name)
         data = Path(prov.data_path)
         if data.exists() and data.stat().st_size <= _MAX_DATA_COPY:
             shutil.copyfile(data, tmp / "inputs" / data.name)
-        run = {"id": run_id, "created": now.isoformat(timespec="seconds"),
-               "command": command if command is not None else list(sys.argv)}
-        record = to_record(findings, run)
-        _write(tmp / "results.json", json.dumps(record, indent=2, allow_nan=False) + "\n")
         target = _unique(root, run_id)
-        record["run"]["folder"] = target.name
-        _write(tmp / "results.json", json.dumps(record, indent=2, allow_nan=False) + "\n")
+        run["folder"] = target.name
+        record = to_record(findings, run)
+        (tmp / "results.json").write_text(json.dumps(record, indent=2, allow_nan=False) + "\n",
+                                          encoding="utf-8")
         os.rename(tmp, target)
     except BaseException:
         shutil.rmtree(tmp, ignore_errors=True)
-        try:
-            root.rmdir()  # only when empty: a stem folder this run created and left unused
-        except OSError:
-            pass
+        if created_root:
+            shutil.rmtree(root, ignore_errors=True)
         raise
     return target
-
-
-def _write(path: Path, text: str) -> None:
-    path.write_text(text, encoding="utf-8")

@@ -23,6 +23,7 @@ class Cell:
     kind: CellKind
     value: object = None
     se: float | None = None
+    p: float | None = None  # p-value of a coefficient, for optional significance marks
 
     @staticmethod
     def empty() -> Cell:
@@ -46,6 +47,20 @@ class Table:
     columns: tuple[tuple[str, ...], ...]
     rows: tuple[Row, ...]
     notes: tuple[str, ...] = ()
+    digits: int | None = None  # overrides the run's decimal places for this table
+
+    def places(self, default: int) -> int:
+        return self.digits if self.digits is not None else default
+
+    def __str__(self) -> str:
+        from .text import render_table_text
+
+        return render_table_text(self)
+
+    def _repr_html_(self) -> str:
+        from .html import render_table_html
+
+        return render_table_html(self)
 
     def text_columns(self) -> tuple[bool, ...]:
         """Per column: True when every cell is text (renderers align those to the left)."""
@@ -109,7 +124,8 @@ def _coef_rows(results: tuple[EquationFindings, ...], restricted: bool) -> list[
         for f in fits:
             if lab in f.labels:
                 i = f.labels.index(lab)
-                cells.append(Cell("number", float(f.coef[i]), float(f.se[i])))
+                cells.append(Cell("number", float(f.coef[i]), float(f.se[i]),
+                                  float(f.pvalues[i])))
             else:
                 cells.append(Cell.empty())
         rows.append(Row(lab, tuple(cells)))
@@ -167,6 +183,36 @@ def coefficient_table(findings: Findings, restricted: bool) -> Table:
                      "classical covariance; Wald uses the run's covariance.")
     return Table(f"{which}_coefficients", f"{which.capitalize()} regressions", "",
                  _columns(findings), tuple(rows), tuple(notes))
+
+
+def journal_table(findings: Findings) -> Table:
+    """The layout journals print: unrestricted slopes, fit, the restriction's p-value, then the
+    restricted slopes and the shares they imply."""
+    results = findings.results
+    rows = _coef_rows(results, restricted=False)
+    fits = [r.unrestricted for r in results]
+    rows += [
+        Row("observations", tuple(Cell("integer", f.nobs) for f in fits), section="fit"),
+        Row("adjusted R^2", tuple(Cell("number", f.rsquared_adj) for f in fits)),
+        Row("s.e. of regression", tuple(Cell("number", f.ser) for f in fits)),
+        Row("restriction p-value (F)", tuple(Cell("pvalue", r.f_test.pvalue) for r in results)),
+    ]
+    restricted = _coef_rows(results, restricted=True)
+    restricted = [x for x in restricted if x.label != "constant"]
+    if restricted:
+        restricted[0] = Row(restricted[0].label, restricted[0].cells, section="restricted")
+    rows += restricted
+    names = list(dict.fromkeys(s.name for r in results for s in r.shares))
+    rows += [Row(f"implied {name}", tuple(share_cell(r.share(name), r.steady_state)
+                                         for r in results)) for name in names]
+    s = findings.settings
+    cov = s.covariance + (f" by '{s.cluster}'" if s.cluster else "")
+    notes = (f"Dependent variable: log income per worker. Standard errors ({cov} covariance) in "
+             f"parentheses. g + delta = {s.g_plus_delta:g}.",
+             "Restriction: the unrestricted slopes sum to zero. Implied shares from the "
+             "restricted slopes, delta-method standard errors.")
+    return Table("regressions", "Steady-state income regressions", "", _columns(findings),
+                 tuple(rows), notes)
 
 
 def _interval(e: Estimate) -> Cell:
@@ -279,10 +325,33 @@ def compact_table(findings: Findings) -> Table:
                   "restricted fit, delta-method intervals.",))
 
 
+def scorecard_table(findings: Findings) -> Table | None:
+    """Published targets against our numbers (None when the spec lists no target)."""
+    if not findings.scorecard:
+        return None
+    rows = tuple(Row(f"{t.equation} / {t.sample}", (
+        Cell("text", t.quantity),
+        Cell("number", t.published),
+        Cell("number", t.ours),
+        Cell("number", t.difference),
+        Cell("number", t.tolerance),
+        Cell("text", "met" if t.met else "MISSED"),
+        Cell("text", t.source),
+    )) for t in findings.scorecard)
+    met = sum(t.met for t in findings.scorecard)
+    return Table("scorecard", "Replication scorecard", "equation / sample",
+                 (("quantity",), ("published",), ("ours",), ("difference",), ("tolerance",),
+                  ("verdict",), ("source",)), rows,
+                 (f"{met} of {len(rows)} targets met (|ours - published| <= tolerance).",),
+                 digits=findings.settings.digits + 1)
+
+
 def all_tables(findings: Findings) -> tuple[Table, ...]:
     """Every table of a run, in reading order."""
-    return (
+    card = scorecard_table(findings)
+    return (*((card,) if card else ()),
         shares_table(findings),
+        journal_table(findings),
         coefficient_table(findings, restricted=False),
         coefficient_table(findings, restricted=True),
         crosscheck_table(findings),

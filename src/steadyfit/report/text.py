@@ -16,7 +16,7 @@ def _lines(table: Table, digits: int) -> list[list[str]]:
         stub = table.stub if level == header_levels - 1 else ""
         lines.append([stub] + [c[level] if level < len(c) else "" for c in table.columns])
     for row in table.rows:
-        texts = [format_cell(c, digits) for c in row.cells]
+        texts = [format_cell(c, table.places(digits)) for c in row.cells]
         lines.append([row.label] + [t for t, _ in texts])
         if any(se is not None for _, se in texts):
             lines.append([""] + [se or "" for _, se in texts])
@@ -52,5 +52,5 @@ def render_text(findings: Findings, tables: tuple[Table, ...] | None = None) -> 
         for note in r.notes:
             parts += textwrap.wrap(f"note ({r.column}): {note}", 100, subsequent_indent="  ")
     for table in tables or (compact_table(findings),):
-        parts += ["", render_table_text(table)]
+        parts += ["", render_table_text(table, findings.settings.digits)]
     return "\n".join(parts)

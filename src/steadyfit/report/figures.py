@@ -1,0 +1,159 @@
+"""Figures (matplotlib, SVG) drawn from findings only.
+
+Every figure reads in greyscale: black and grey marks, hollow markers, dashed
+reference lines, a light-grey shaded band.  SVG output keeps text as text and
+is deterministic (fixed ids, no timestamp), so two runs give the same files.
+"""
+
+from __future__ import annotations
+
+import io
+import re
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..findings import EquationFindings, Findings
+
+_STYLE = {
+    "svg.fonttype": "none",
+    "svg.hashsalt": "steadyfit",
+    "font.size": 9,
+    "axes.spines.top": False,
+    "axes.spines.right": False,
+    "axes.titlesize": 10,
+}
+
+
+@dataclass(frozen=True)
+class Figure:
+    key: str  # file stem under figures/
+    title: str
+    caption: str
+    svg: str  # the <svg> element alone, ready to inline
+
+
+def _svg(fig) -> str:  # type: ignore[no-untyped-def]
+    buf = io.StringIO()
+    fig.savefig(buf, format="svg", bbox_inches="tight", metadata={"Date": None})
+    import matplotlib.pyplot as plt
+
+    plt.close(fig)
+    text = buf.getvalue()
+    return text[text.index("<svg"):]
+
+
+def _slug(text: str) -> str:
+    return re.sub(r"[^A-Za-z0-9_-]+", "_", text).strip("_")
+
+
+def fit_figure(r: EquationFindings, n_labels: int = 5) -> Figure:
+    """Actual against fitted log income (most distant economies named), residuals against fitted."""
+    import matplotlib.pyplot as plt
+
+    with plt.rc_context(_STYLE):
+        fig, (ax1, ax2) = plt.subplots(1, 2, figsize=(8.0, 3.6))
+        y = r.observations.y
+        fitted, resid = r.unrestricted.fitted, r.unrestricted.resid
+        ax1.scatter(fitted, y, s=14, facecolors="none", edgecolors="black", linewidths=0.7)
+        lo, hi = float(min(fitted.min(), y.min())), float(max(fitted.max(), y.max()))
+        ax1.plot([lo, hi], [lo, hi], color="grey", linestyle="--", linewidth=0.8)
+        for i in np.argsort(-np.abs(resid))[:n_labels]:
+            ax1.annotate(r.observations.economies[i], (fitted[i], y[i]), fontsize=7,
+                         xytext=(3, 3), textcoords="offset points")
+        ax1.set_xlabel("fitted log income per worker")
+        ax1.set_ylabel("actual log income per worker")
+        ax1.set_title("Actual against fitted (dashed: 45-degree line)")
+        ax2.scatter(fitted, resid, s=14, facecolors="none", edgecolors="black", linewidths=0.7)
+        ax2.axhline(0, color="grey", linestyle="--", linewidth=0.8)
+        ax2.set_xlabel("fitted log income per worker")
+        ax2.set_ylabel("residual (log points)")
+        ax2.set_title("Residuals against fitted")
+        fig.tight_layout()
+        svg = _svg(fig)
+    return Figure(f"fit_{_slug(r.equation)}_{_slug(r.sample)}",
+                  f"Fit: {r.column}",
+                  f"Unrestricted regression, {r.nobs} economies; the {n_labels} economies with "
+                  "the largest residuals are named.", svg)
+
+
+def partial_figure(r: EquationFindings) -> Figure:
+    """Partial-regression plots: each regressor against log income, both net of the others."""
+    import matplotlib.pyplot as plt
+
+    x, y = r.observations.x, r.observations.y
+    k = x.shape[1] - 1
+    with plt.rc_context(_STYLE):
+        fig, axes = plt.subplots(1, k, figsize=(3.0 * k, 3.0), squeeze=False)
+        for j in range(1, k + 1):
+            others = np.delete(x, j, axis=1)
+            proj = others @ np.linalg.lstsq(others, np.column_stack([y, x[:, j]]), rcond=None)[0]
+            ey, ex = y - proj[:, 0], x[:, j] - proj[:, 1]
+            ax = axes[0, j - 1]
+            ax.scatter(ex, ey, s=12, facecolors="none", edgecolors="black", linewidths=0.7)
+            grid = np.linspace(ex.min(), ex.max(), 2)
+            ax.plot(grid, r.unrestricted.coef[j] * grid, color="grey", linewidth=1.0)
+            label = r.unrestricted.labels[j]
+            ax.set_xlabel(f"{label}, net of the others")
+            ax.set_ylabel("log income, net of the others")
+            ax.set_title(f"slope {r.unrestricted.coef[j]:.3f}")
+        fig.tight_layout()
+        svg = _svg(fig)
+    return Figure(f"partial_{_slug(r.equation)}_{_slug(r.sample)}",
+                  f"Partial regressions: {r.column}",
+                  "Each panel: log income and one regressor, both after removing what the other "
+                  "regressors explain; the line has the estimated slope.", svg)
+
+
+def shares_figure(findings: Findings) -> Figure | None:
+    """Every implied share with its interval, over its shaded plausibility band."""
+    import matplotlib.pyplot as plt
+    from matplotlib.patches import Rectangle
+
+    rows = [(r, v) for r in findings.results for v in r.shares if v.band is not None]
+    if not rows:
+        return None
+    pct = round(findings.settings.confidence * 100)
+    with plt.rc_context(_STYLE):
+        fig, ax = plt.subplots(figsize=(7.0, 0.42 * len(rows) + 1.2))
+        labels = []
+        for i, (r, v) in enumerate(rows):
+            ypos = len(rows) - 1 - i
+            assert v.band is not None
+            ax.add_patch(Rectangle((v.band[0], ypos - 0.4), v.band[1] - v.band[0], 0.8,
+                                   facecolor="0.88", edgecolor="none", zorder=0))
+            e = v.estimate
+            if r.steady_state:
+                ax.errorbar(e.value, ypos, xerr=[[e.value - e.low], [e.high - e.value]],
+                            fmt="o", color="black", markersize=4, capsize=3, linewidth=1)
+            else:
+                ax.text(0.5, ypos, "no steady state", ha="center", va="center", fontsize=8)
+            labels.append(f"{r.column}: {e.name}")
+        ax.axvline(1.0, color="black", linestyle=":", linewidth=0.8)
+        ax.set_yticks(range(len(rows)))
+        ax.set_yticklabels(list(reversed(labels)))
+        ax.set_ylim(-0.6, len(rows) - 0.4)
+        lo = min(0.0, *(v.estimate.low for _, v in rows))
+        hi = max(1.05, *(v.estimate.high for _, v in rows))
+        ax.set_xlim(lo - 0.02, min(hi + 0.02, 2.0))
+        ax.set_xlabel(f"implied share of output (point and {pct}% delta-method interval)")
+        ax.set_title("Implied shares against their plausible bands (grey); dotted: share = 1")
+        fig.tight_layout()
+        svg = _svg(fig)
+    return Figure("implied_shares", "Implied shares and plausible bands",
+                  "Grey: the plausible band of each share. Beyond the dotted line at 1 no "
+                  "steady state exists.", svg)
+
+
+def all_figures(findings: Findings) -> tuple[Figure, ...]:
+    """The run's figures: the share chart first, then per equation and sample."""
+    import matplotlib
+
+    matplotlib.use("Agg", force=False)
+    out: list[Figure] = []
+    chart = shares_figure(findings)
+    if chart is not None:
+        out.append(chart)
+    for r in findings.results:
+        out += [fit_figure(r), partial_figure(r)]
+    return tuple(out)

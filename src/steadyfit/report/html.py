@@ -1,0 +1,146 @@
+"""The self-contained HTML report (jinja2, inline CSS and SVG, nothing fetched)."""
+
+from __future__ import annotations
+
+import html
+from dataclasses import dataclass
+from typing import Any
+
+from ..findings import EquationFindings, Findings
+from .figures import Figure
+from .tables import (
+    Table,
+    all_tables,
+    compact_table,
+    format_cell,
+    format_number,
+    scorecard_table,
+    verdict_lines,
+)
+
+
+def render_table_html(table: Table, digits: int = 3) -> str:
+    """A table as HTML; every string is escaped."""
+    e = html.escape
+    levels = max((len(c) for c in table.columns), default=1)
+    head_rows = []
+    for level in range(levels):
+        cells = [f"<th scope='col'>{e(table.stub) if level == levels - 1 else ''}</th>"]
+        row = [c[level] if level < len(c) else "" for c in table.columns]
+        j = 0
+        while j < len(row):  # merge repeated neighbours on upper levels (equation names)
+            span = 1
+            while level < levels - 1 and j + span < len(row) and row[j + span] == row[j]:
+                span += 1
+            attr = f" colspan='{span}'" if span > 1 else ""
+            cells.append(f"<th scope='col'{attr}>{e(row[j])}</th>")
+            j += span
+        head_rows.append("<tr>" + "".join(cells) + "</tr>")
+    text_cols = table.text_columns()
+    body = []
+    for row in table.rows:
+        texts = [format_cell(c, table.places(digits)) for c in row.cells]
+        if row.section:
+            body.append(f"<tr class='section'><th colspan='{len(texts) + 1}'>{e(row.section)}"
+                        "</th></tr>")
+        cells = "".join(
+            f"<td class='{'text' if t_col else 'num'}'>{e(t)}"
+            + (f"<br><span class='se'>{e(se)}</span>" if se else "") + "</td>"
+            for (t, se), t_col in zip(texts, text_cols, strict=True))
+        body.append(f"<tr><th scope='row'>{e(row.label)}</th>{cells}</tr>")
+    notes = "".join(f"<p class='note'>{e(n)}</p>" for n in table.notes)
+    return (f"<figure class='table' id='table-{e(table.key)}'><table><caption>{e(table.title)}"
+            f"</caption><thead>{''.join(head_rows)}</thead><tbody>{''.join(body)}</tbody>"
+            f"</table>{notes}</figure>")
+
+
+@dataclass(frozen=True)
+class ShareLine:
+    name: str
+    value: str
+    interval: str
+    band: str
+    status: str
+    point_p: str
+
+
+@dataclass(frozen=True)
+class Verdict:
+    column: str
+    nobs: int
+    restriction: str
+    held: bool
+    f_p: str
+    wald_p: str
+    steady_state: bool
+    shares: tuple[ShareLine, ...]
+    notes: tuple[str, ...]
+
+
+def _p(p: float) -> str:
+    return "< 0.001" if p < 0.001 else f"{p:.3f}"
+
+
+def _verdict(r: EquationFindings, level: float, digits: int) -> Verdict:
+    lines = []
+    for v in r.shares:
+        e = v.estimate
+        if not r.steady_state:
+            status = "no steady state"
+        elif v.interval_reaches_one:
+            status = "interval reaches 1"
+        else:
+            status = v.band_status or ""
+        lines.append(ShareLine(
+            e.name,
+            format_number(e.value, digits) if r.steady_state else "n/a",
+            f"{format_number(e.low, digits)} to {format_number(e.high, digits)}",
+            f"{format_number(v.band[0], 2)} to {format_number(v.band[1], 2)}" if v.band else "",
+            status,
+            _p(v.point_test.pvalue) if v.point_test else "",
+        ))
+    return Verdict(r.column, r.nobs, r.restriction_text, not r.f_test.rejects(level),
+                   _p(r.f_test.pvalue), _p(r.wald_test.pvalue), r.steady_state, tuple(lines),
+                   r.notes)
+
+
+def _environment() -> Any:
+    import jinja2
+
+    return jinja2.Environment(
+        loader=jinja2.PackageLoader("steadyfit.report", "templates"),
+        autoescape=True,
+        undefined=jinja2.StrictUndefined,
+        trim_blocks=True,
+        lstrip_blocks=True,
+    )
+
+
+def render_html(findings: Findings, figures: tuple[Figure, ...], run: dict[str, Any]) -> str:
+    """The whole report as one HTML document."""
+    import markupsafe
+
+    s = findings.settings
+    digits = s.digits
+    level = 1 - s.confidence
+    tables = [markupsafe.Markup(render_table_html(t, digits)) for t in all_tables(findings)
+              if t.key not in ("samples", "dropped_economies")]
+    appendix = [markupsafe.Markup(render_table_html(t, digits)) for t in all_tables(findings)
+                if t.key in ("samples", "dropped_economies")]
+    card = scorecard_table(findings)
+    return str(_environment().get_template("report.html.j2").render(
+        findings=findings,
+        settings=s,
+        run=run,
+        level_pct=f"{level:.0%}",
+        conf_pct=f"{s.confidence:.0%}",
+        verdicts=[_verdict(r, level, digits) for r in findings.results],
+        verdict_text=verdict_lines(findings),
+        key_table=markupsafe.Markup(render_table_html(compact_table(findings), digits)),
+        scorecard=markupsafe.Markup(render_table_html(card, digits)) if card else None,
+        targets_met=findings.targets_met,
+        tables=tables,
+        appendix=appendix,
+        figures=[(f, markupsafe.Markup(f.svg)) for f in figures],
+        economies=[(r.column, ", ".join(r.economies)) for r in findings.results],
+    ))
