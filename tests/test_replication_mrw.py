@@ -14,8 +14,8 @@ import sys
 
 import numpy as np
 import pytest
-from conftest import TESTS
 
+from conftest import TESTS
 from steadyfit.spec import load_spec
 
 TARGETS = load_spec(TESTS / "specs" / "mrw_1992.toml").body.target

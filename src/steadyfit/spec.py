@@ -195,18 +195,18 @@ class SpecBody(_Record):
                 raise ValueError(f"equation[{i}]: form '{form.key}' needs assumptions.span_years")
         equations_by_name = {e.name: e for e in self.equation}
         for i, t in enumerate(self.target, 1):
-            eq = equations_by_name.get(t.equation)
-            if eq is None:
+            target_eq = equations_by_name.get(t.equation)
+            if target_eq is None:
                 raise ValueError(f"target[{i}].equation: unknown equation '{t.equation}'"
                                  f"{did_you_mean(t.equation, equations_by_name)}")
-            samples = eq.samples or tuple(self.samples)
-            if t.sample not in samples:
+            runs_on = target_eq.samples or tuple(self.samples)
+            if t.sample not in runs_on:
                 raise ValueError(f"target[{i}].sample: equation '{t.equation}' does not run on "
-                                 f"sample '{t.sample}'{did_you_mean(t.sample, samples)}")
-            names = quantity_names(equations.find_form(eq.form, eq.capital))
-            if t.quantity not in names:
+                                 f"sample '{t.sample}'{did_you_mean(t.sample, runs_on)}")
+            known = quantity_names(equations.find_form(target_eq.form, target_eq.capital))
+            if t.quantity not in known:
                 raise ValueError(f"target[{i}].quantity: '{t.quantity}' is not a quantity of "
-                                 f"equation '{t.equation}'{did_you_mean(t.quantity, names)}")
+                                 f"equation '{t.equation}'{did_you_mean(t.quantity, known)}")
         return self
 
 

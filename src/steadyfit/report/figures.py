@@ -10,12 +10,13 @@ from __future__ import annotations
 import io
 import re
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
 from ..findings import EquationFindings, Findings
 
-_STYLE = {
+_STYLE: dict[Any, Any] = {
     "svg.fonttype": "none",
     "svg.hashsalt": "steadyfit",
     "font.size": 9,

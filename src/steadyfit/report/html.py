@@ -26,14 +26,14 @@ def render_table_html(table: Table, digits: int = 3) -> str:
     head_rows = []
     for level in range(levels):
         cells = [f"<th scope='col'>{e(table.stub) if level == levels - 1 else ''}</th>"]
-        row = [c[level] if level < len(c) else "" for c in table.columns]
+        heads = [c[level] if level < len(c) else "" for c in table.columns]
         j = 0
-        while j < len(row):  # merge repeated neighbours on upper levels (equation names)
+        while j < len(heads):  # merge repeated neighbours on upper levels (equation names)
             span = 1
-            while level < levels - 1 and j + span < len(row) and row[j + span] == row[j]:
+            while level < levels - 1 and j + span < len(heads) and heads[j + span] == heads[j]:
                 span += 1
             attr = f" colspan='{span}'" if span > 1 else ""
-            cells.append(f"<th scope='col'{attr}>{e(row[j])}</th>")
+            cells.append(f"<th scope='col'{attr}>{e(heads[j])}</th>")
             j += span
         head_rows.append("<tr>" + "".join(cells) + "</tr>")
     text_cols = table.text_columns()
@@ -43,11 +43,11 @@ def render_table_html(table: Table, digits: int = 3) -> str:
         if row.section:
             body.append(f"<tr class='section'><th colspan='{len(texts) + 1}'>{e(row.section)}"
                         "</th></tr>")
-        cells = "".join(
+        tds = "".join(
             f"<td class='{'text' if t_col else 'num'}'>{e(t)}"
             + (f"<br><span class='se'>{e(se)}</span>" if se else "") + "</td>"
             for (t, se), t_col in zip(texts, text_cols, strict=True))
-        body.append(f"<tr><th scope='row'>{e(row.label)}</th>{cells}</tr>")
+        body.append(f"<tr><th scope='row'>{e(row.label)}</th>{tds}</tr>")
     notes = "".join(f"<p class='note'>{e(n)}</p>" for n in table.notes)
     return (f"<figure class='table' id='table-{e(table.key)}'><table><caption>{e(table.title)}"
             f"</caption><thead>{''.join(head_rows)}</thead><tbody>{''.join(body)}</tbody>"
