@@ -105,3 +105,11 @@ def test_notebook_views(demo_findings):
     html = demo_findings._repr_html_()
     assert html.startswith("<div>") and "Implied capital shares" in html
     assert "Key results" in str(demo_findings)
+
+
+def test_tables_render_in_notebooks(demo_findings):
+    from steadyfit.report.tables import compact_table
+
+    t = compact_table(demo_findings)
+    assert t._repr_html_().startswith("<figure class='table'")
+    assert str(t).startswith("Key results")

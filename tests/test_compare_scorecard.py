@@ -1,0 +1,167 @@
+"""Replication targets (scorecard, --strict) and run comparison, on runs that differ in
+known ways."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+
+import pandas as pd
+import pytest
+
+import steadyfit
+from steadyfit.compare import compare_runs, render_comparison_html, render_comparison_text
+from steadyfit.errors import InputError
+from steadyfit.report.runfolder import write_run
+
+
+def cli(*args):
+    return subprocess.run([sys.executable, "-m", "steadyfit", *map(str, args)],
+                          capture_output=True, text=True, timeout=180)
+
+
+def _with_targets(demo_dir, targets: str):
+    spec = demo_dir / "demo.toml"
+    spec.write_text(spec.read_text() + targets)
+    return spec
+
+
+def test_scorecard_met_and_missed(demo_dir):
+    """Targets taken from the truth the demo was generated with (steadyfit.demo)."""
+    from steadyfit.demo import TRUE_ALPHA
+
+    spec = _with_targets(demo_dir, f"""
+[[target]]
+equation = "with_schooling"
+sample = "no_resource_exporters"
+quantity = "alpha"
+value = {TRUE_ALPHA}
+tolerance = 0.05
+source = "generator truth"
+
+[[target]]
+equation = "physical_only"
+sample = "all"
+quantity = "nobs"
+value = 91
+tolerance = 0.5
+source = "a wrong count"
+""")
+    f = steadyfit.run(spec)
+    met, missed = f.scorecard
+    assert met.met and met.ours == f.result("with_schooling",
+                                            "no_resource_exporters").share("alpha").estimate.value
+    assert not missed.met and missed.ours == 90 and missed.difference == -1
+    assert not f.targets_met
+
+
+def test_strict_exit_status(demo_dir, tmp_path):
+    spec = _with_targets(demo_dir, """
+[[target]]
+equation = "physical_only"
+sample = "all"
+quantity = "nobs"
+value = 91
+tolerance = 0.5
+""")
+    loose = cli("run", spec, "--out", tmp_path / "a", "--quiet")
+    assert loose.returncode == 0 and "1 of 1 replication targets missed" in loose.stderr
+    strict = cli("run", spec, "--out", tmp_path / "b", "--quiet", "--strict")
+    assert strict.returncode == 3
+    (run,) = (tmp_path / "b" / "demo").iterdir()  # the report is still written
+    record = json.loads((run / "results.json").read_text())
+    assert record["targets_met"] is False and record["scorecard"][0]["met"] is False
+    assert "Some targets are missed." in (run / "report.html").read_text()
+
+
+@pytest.mark.parametrize("block, fragment", [
+    ('equation = "physical_only"\nsample = "all"\nquantity = "alpa"',
+     "target[1].quantity: 'alpa' is not a quantity of equation 'physical_only'; did you mean "
+     "'alpha'?"),
+    ('equation = "physical_only"\nsample = "large_north_coast"\nquantity = "alpha"',
+     "does not run on sample 'large_north_coast'"),
+    ('equation = "physical"\nsample = "all"\nquantity = "alpha"', "unknown equation"),
+])
+def test_bad_targets_are_input_errors(demo_dir, block, fragment):
+    spec = _with_targets(demo_dir, f"\n[[target]]\n{block}\nvalue = 1\ntolerance = 0.1\n")
+    with pytest.raises(InputError) as exc:
+        steadyfit.load_spec(spec)
+    assert fragment in str(exc.value)
+
+
+@pytest.fixture(scope="module")
+def two_runs(tmp_path_factory):
+    """The demo spec run with g + delta = 0.05 and with 0.06."""
+    from steadyfit.demo import write_demo
+
+    folder = tmp_path_factory.mktemp("cmp")
+    spec = write_demo(folder)
+    a = write_run(steadyfit.run(spec), folder / "runs")
+    spec.write_text(spec.read_text().replace("g_plus_delta = 0.05", "g_plus_delta = 0.06"))
+    b = write_run(steadyfit.run(spec), folder / "runs")
+    return folder, a, b
+
+
+def test_compare_lists_what_g_plus_delta_moves_and_nothing_else(two_runs):
+    _, a, b = two_runs
+    c = compare_runs(a, b)
+    assert c.settings == (("g_plus_delta", 0.05, 0.06),)
+    assert c.inputs == () and c.only_in_a == () and c.only_in_b == () and c.economies == ()
+    changed = {(ch.equation, ch.sample, ch.quantity) for ch in c.changes}
+    assert ("physical_only", "all", "coef:ln_ngd") in changed
+    assert ("with_schooling", "all", "alpha") in changed
+    assert not [q for q in changed if q[2] == "nobs"]  # the samples did not change
+    # every listed change is real, and every real change is listed
+    ra, rb = (json.loads((p / "results.json").read_text()) for p in (a, b))
+    real = {(x["equation"], x["sample"], k)
+            for x, y in zip(ra["results"], rb["results"], strict=True)
+            for k in x["quantities"] if abs(x["quantities"][k] - y["quantities"][k]) > 1e-9}
+    assert changed == real
+
+
+def test_compare_of_identical_runs_is_empty(two_runs, tmp_path):
+    folder, a, _ = two_runs
+    spec = folder / "demo.toml"
+    spec.write_text(spec.read_text().replace("g_plus_delta = 0.06", "g_plus_delta = 0.05"))
+    again = write_run(steadyfit.run(spec), tmp_path)
+    c = compare_runs(a, again)
+    assert c.identical
+    assert "No quantity differs" in render_comparison_text(c)
+
+
+def test_compare_sees_a_new_data_vintage(two_runs, tmp_path):
+    """Dropping one economy from the data: the hash, the samples and the numbers move."""
+    from steadyfit.demo import write_demo
+
+    _, a, _ = two_runs
+    spec = write_demo(tmp_path / "v2")
+    csv = tmp_path / "v2" / "demo_economies.csv"
+    d = pd.read_csv(csv)
+    gone = d.economy.iloc[0]
+    d.iloc[1:].to_csv(csv, index=False)
+    b = write_run(steadyfit.run(spec), tmp_path / "runs")
+    c = compare_runs(a, b)
+    assert {k for k, _, _ in c.inputs} == {"data_sha256", "data_rows"}
+    cells = {cell: removed for cell, _, removed in c.economies}
+    assert cells["physical_only / all"] == (gone,)
+    assert any(ch.quantity == "nobs" for ch in c.changes)
+
+
+def test_compare_command_line_and_html(two_runs, tmp_path):
+    _, a, b = two_runs
+    page = tmp_path / "cmp.html"
+    proc = cli("compare", a, b, "--html", page)
+    assert proc.returncode == 0, proc.stderr
+    assert "g_plus_delta" in proc.stdout and "coef:ln_ngd" in proc.stdout
+    html = page.read_text()
+    assert html.startswith("<!DOCTYPE html>") and "coef:ln_ngd" in html
+    assert render_comparison_html(compare_runs(a, b)) == html
+
+
+def test_compare_bad_input(tmp_path):
+    proc = cli("compare", tmp_path, tmp_path)
+    assert proc.returncode == 2 and "no results.json" in proc.stderr
+    (tmp_path / "results.json").write_text("{}")
+    proc = cli("compare", tmp_path, tmp_path)
+    assert proc.returncode == 2 and "not a steadyfit results.json" in proc.stderr
