@@ -64,7 +64,24 @@ def main() -> None:
     t_run = _best(lambda: steadyfit.run(spec), args.repeat)
     out = Path(tempfile.mkdtemp())
     findings = steadyfit.run(spec)
-    t_write = _best(lambda: write_run(findings, out, command=["bench"]), args.repeat)
+    t_write = _best(lambda: write_run(findings, out, command=["bench"]), max(1, args.repeat // 3))
+
+    from steadyfit.report.figures import all_figures
+
+    def figure_baseline() -> None:
+        import io
+
+        import matplotlib.pyplot as plt
+
+        rng = np.random.RandomState(0)
+        for _ in range(len(all_figures(findings))):
+            fig, ax = plt.subplots()
+            ax.scatter(rng.normal(size=90), rng.normal(size=90))
+            fig.savefig(io.StringIO(), format="svg")
+            plt.close(fig)
+
+    t_fig_base = _best(figure_baseline, max(1, args.repeat // 3))
+    t_fig = _best(lambda: all_figures(findings), max(1, args.repeat // 3))
 
     def cli(argv: list[str]) -> float:
         return statistics.median(
@@ -78,7 +95,10 @@ def main() -> None:
     print(f"baseline (read CSV + bare statsmodels fits, 3 samples x 4 fits): {t_base * 1e3:8.1f} ms")
     print(f"steadyfit.run (validate, samples, fits, tests, delta method):   {t_run * 1e3:8.1f} ms"
           f"   ratio {t_run / t_base:5.2f}")
-    print(f"write_run (summary.md, tables, results.json, inputs):         {t_write * 1e3:8.1f} ms")
+    print(f"figures: bare scatter + SVG save, same count:                {t_fig_base * 1e3:8.1f} ms")
+    print(f"figures: steadyfit all_figures:                                {t_fig * 1e3:8.1f} ms"
+          f"   ratio {t_fig / t_fig_base:5.2f}")
+    print(f"write_run (everything rendered and written atomically):        {t_write * 1e3:8.1f} ms")
     print(f"python -c pass: {t_python * 1e3:6.0f} ms; steadyfit --help: {t_help * 1e3:6.0f} ms"
           f"   ratio {t_help / t_python:5.2f}")
 
