@@ -14,7 +14,9 @@ from .tables import (
     compact_table,
     format_cell,
     format_number,
+    format_p,
     scorecard_table,
+    share_status,
     verdict_lines,
 )
 
@@ -77,30 +79,21 @@ class Verdict:
     notes: tuple[str, ...]
 
 
-def _p(p: float) -> str:
-    return "< 0.001" if p < 0.001 else f"{p:.3f}"
-
-
 def _verdict(r: EquationFindings, level: float, digits: int) -> Verdict:
     lines = []
     for v in r.shares:
         e = v.estimate
-        if not r.steady_state:
-            status = "no steady state"
-        elif v.interval_reaches_one:
-            status = "interval reaches 1"
-        else:
-            status = v.band_status or ""
         lines.append(ShareLine(
             e.name,
             format_number(e.value, digits) if r.steady_state else "n/a",
             f"{format_number(e.low, digits)} to {format_number(e.high, digits)}",
             f"{format_number(v.band[0], 2)} to {format_number(v.band[1], 2)}" if v.band else "",
-            status,
-            _p(v.point_test.pvalue) if v.point_test else "",
+            share_status(v, r.steady_state),
+            format_p(v.point_test.pvalue) if v.point_test else "",
         ))
     return Verdict(r.column, r.nobs, r.restriction_text, not r.f_test.rejects(level),
-                   _p(r.f_test.pvalue), _p(r.wald_test.pvalue), r.steady_state, tuple(lines),
+                   format_p(r.f_test.pvalue), format_p(r.wald_test.pvalue), r.steady_state,
+                   tuple(lines),
                    r.notes)
 
 

@@ -219,6 +219,20 @@ def _interval(e: Estimate) -> Cell:
     return Cell("interval", (e.low, e.high))
 
 
+def share_status(v: ShareVerdict, steady: bool) -> str:
+    """One word or phrase for where a share stands: its band verdict, or why it has none."""
+    if not steady:
+        return "no steady state"
+    if v.interval_reaches_one:
+        return "interval reaches 1 (no steady state)"
+    return v.band_status or ""
+
+
+def format_p(p: float) -> str:
+    """A p-value for prose: three decimals, or '< 0.001'."""
+    return "< 0.001" if p < 0.001 else f"{p:.3f}"
+
+
 def shares_table(findings: Findings) -> Table:
     """Implied shares with intervals, band verdicts and the z-test against the point."""
     pct = round(findings.settings.confidence * 100)
@@ -227,12 +241,7 @@ def shares_table(findings: Findings) -> Table:
         first = True
         for v in r.shares:
             e = v.estimate
-            if not r.steady_state:
-                status = "no steady state"
-            elif v.interval_reaches_one:
-                status = "interval reaches 1 (no steady state)"
-            else:
-                status = v.band_status or ""
+            status = share_status(v, r.steady_state)
             cells = (
                 Cell("text", e.name),
                 share_cell(v, r.steady_state) if r.steady_state else Cell("text", "n/a"),
@@ -373,9 +382,8 @@ def _share_phrase(v: ShareVerdict, steady: bool) -> str:
         text += (f", {where[v.band_status]} the plausible band {format_number(v.band[0], 2)}"
                  f" to {format_number(v.band[1], 2)}")
     if v.point_test and v.point is not None:
-        p = v.point_test.pvalue
-        ptxt = "p < 0.001" if p < 0.001 else f"p = {p:.3f}"
-        text += f"; test of {e.name} = {v.point:.3g}: {ptxt}"
+        p = format_p(v.point_test.pvalue)
+        text += f"; test of {e.name} = {v.point:.3g}: p {p if p.startswith('<') else '= ' + p}"
     if v.interval_reaches_one:
         text += "; the interval reaches 1, where no steady state exists"
     return text
@@ -387,7 +395,8 @@ def verdict_lines(findings: Findings) -> tuple[str, ...]:
     out = []
     for r in findings.results:
         f = r.f_test
-        ptxt = "p < 0.001" if f.pvalue < 0.001 else f"p = {f.pvalue:.3f}"
+        p = format_p(f.pvalue)
+        ptxt = f"p {p}" if p.startswith("<") else f"p = {p}"
         held = "rejected" if f.rejects(level) else "not rejected"
         shares = "; ".join(_share_phrase(v, r.steady_state) for v in r.shares
                            if v.band is not None or "+" in v.name)
