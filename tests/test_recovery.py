@@ -95,7 +95,7 @@ def test_no_steady_state_is_flagged(tmp_path):
     spec = SPEC.split("[[equation]]\nname = \"aug\"")[0] + "[[equation]]\nname = \"textbook\"\n"
     r = steadyfit.run(write_spec(tmp_path, spec)).result("textbook", "all")
     assert not r.steady_state
-    assert r.notes and "no steady state" in r.notes[0]
+    assert r.notes and "no steady state" in r.notes[0].lower()
     from steadyfit.report.tables import compact_table, verdict_lines
     from steadyfit.report.text import render_table_text
 

@@ -23,7 +23,7 @@ _EXPORTS = {
     "spec_from_dict": ("steadyfit.spec", "spec_from_dict"),
     "write_run": ("steadyfit.report.runfolder", "write_run"),
     "InputError": ("steadyfit.errors", "InputError"),
-    "FORMS": ("steadyfit.equations", "FORMS"),
+    "FORM_KEYS": ("steadyfit.equations", "FORM_KEYS"),
 }
 
 __all__ = sorted(_EXPORTS)

@@ -29,7 +29,7 @@ LOG_COLUMNS = {
     "human_stock": "ln_h",
     "workforce_growth": "ln_ngd",
 }
-CANONICAL = tuple(LOG_COLUMNS.values())
+CANONICAL = (*LOG_COLUMNS.values(), "ln_growth")
 
 # Rates outside these bounds cannot be right in the declared unit.  The bounds
 # are common practice, no source: investment shares lie in (0, 1] as fractions,
@@ -155,6 +155,8 @@ def load_data(spec: Spec) -> EconomyTable:
             frame[LOG_COLUMNS[var]] = np.where(values > 0, np.log(values.where(values > 0)),
                                                np.nan)
         frame[f"_{var}_level"] = values  # fraction (and n+g+d), kept for messages and checks
+    if "ln_y" in frame.columns and "ln_y0" in frame.columns:
+        frame["ln_growth"] = frame["ln_y"] - frame["ln_y0"]
     return EconomyTable(frame, path, _sha256(path), body.data.id, variables, tuple(warnings))
 
 
@@ -250,7 +252,7 @@ def select(table: EconomyTable, spec: Spec, sample: str, form: ModelForm) -> Sel
             dropped.append(Dropped(economy, f"missing cluster '{cluster}'"))
         used &= ~missing
 
-    columns = [LOG_COLUMNS[v] for v in needed]
+    columns = list(dict.fromkeys([LOG_COLUMNS[v] for v in needed] + [form.dependent]))
     out = in_sample.loc[used, columns].copy()
     if cluster is not None:
         out["_cluster"] = in_sample.loc[used, cluster]

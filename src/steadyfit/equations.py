@@ -4,36 +4,49 @@ Each :class:`ModelForm` says which canonical columns it regresses on
 (unrestricted), the linear restriction theory imposes on those slopes, the
 regressors of the restricted equation, and the maps from coefficients to the
 structural parameters with their analytic Jacobians (and the reverse map, for
-simulation and calibration).
+simulation, structural estimation and calibration).
 
 Canonical columns (built by :mod:`steadyfit.data`): ``ln_y`` log income per
-worker, ``ln_y0`` log initial income, ``ln_sk`` log physical investment share,
-``ln_sh`` log human-capital investment share, ``ln_h`` log human-capital stock,
-``ln_ngd`` log of n + g + delta.
+worker, ``ln_y0`` log initial income, ``ln_growth`` = ``ln_y - ln_y0``,
+``ln_sk`` log physical investment share, ``ln_sh`` log human-capital investment
+share, ``ln_h`` log human-capital stock, ``ln_ngd`` log of n + g + delta.
 
 Notes
 -----
-Levels form (DOMAIN.md section 2), with human capital as an investment rate::
+Levels form (DOMAIN.md section 2), human capital as an investment rate::
 
     ln y = c + a/(1-a-b) ln s_k + b/(1-a-b) ln s_h - (a+b)/(1-a-b) ln(n+g+delta)
 
 Restricted slopes ``c_k, c_h`` on ``ln s_k - ln(n+g+delta)`` and
 ``ln s_h - ln(n+g+delta)`` give ``a = c_k/D``, ``b = c_h/D`` with
-``D = 1 + c_k + c_h``.  With human capital as a stock ``h``::
+``D = theta + c_k + c_h`` and ``theta = 1``.  With a stock ``h``::
 
     ln y = c + a/(1-a) ln s_k - a/(1-a) ln(n+g+delta) + b/(1-a) ln h
+
+so ``a = c_k/(theta + c_k)`` and ``b = c_h/(theta + c_k)``.
+
+Growth form (section 3) over a span of T years::
+
+    ln y_T - ln y_0 = c + b_0 ln y_0 + theta [levels right-hand side]
+
+with ``theta = -b_0 = 1 - exp(-lambda T)``: the same share maps hold with
+``theta`` taken from the coefficient on initial income, and
+``lambda = -ln(1 + b_0)/T``.
 """
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
+from functools import lru_cache
 
 import numpy as np
 
 Vector = np.ndarray
 VectorFn = Callable[[Vector], Vector]
 
+FORM_NAMES: tuple[str, ...] = ("growth", "levels")
 CAPITAL_KINDS = ("physical", "human_rate", "human_stock")
 
 
@@ -61,18 +74,22 @@ class VectorMap:
 
 @dataclass(frozen=True)
 class ParameterMap:
-    """Restricted slopes -> structural parameters.
+    """Restricted slopes -> structural parameters (shares, and ``lam`` for growth forms).
 
-    ``denominator(c)`` is the quantity whose sign decides whether a steady
-    state exists (positive: it does).  ``single`` names the parameters that
-    are an increasing function of one coefficient alone (by position), so an
-    interval for that coefficient maps exactly to one for the parameter.
-    ``inverse`` maps parameters back to restricted slopes.
+    ``problem(c)`` says, in words, why the slopes imply no ordinary parameters
+    (no steady state, no convergence), or returns None.  ``domain(c)`` is
+    positive exactly where ``problem`` is None; it is used to check the
+    endpoints of intervals.  ``single`` names the parameters that depend on one
+    coefficient alone (by position), so an interval for that coefficient maps
+    exactly to one for the parameter.  ``inverse`` maps parameters back to
+    restricted slopes.
     """
 
     forward: VectorMap
     inverse: VectorFn
-    denominator: Callable[[Vector], float]
+    domain: Callable[[Vector], float]
+    problem: Callable[[Vector], str | None]
+    shares: tuple[str, ...]
     single: Mapping[str, int] = field(default_factory=dict)
 
     @property
@@ -84,9 +101,10 @@ class ParameterMap:
 class CrossCheck:
     """One quantity implied two ways by the unrestricted slopes (over-identification).
 
-    ``shares`` gives the parameters implied by the investment-rate slopes
-    alone; ``quantity`` is the parameter (or sum) that the workforce-growth
-    slope also implies; ``from_rates`` and ``from_growth`` give it both ways.
+    ``shares`` gives the parameters implied by the unrestricted slopes without
+    using the n + g + delta slope; ``quantity`` is the share (or sum) that the
+    n + g + delta slope also implies; ``from_rates`` and ``from_growth`` give it
+    both ways.
     """
 
     shares: VectorMap
@@ -104,16 +122,29 @@ class ModelForm:
     capital: tuple[str, ...]
     description: str
     dependent: str
+    dependent_label: str
     needs: tuple[str, ...]
     unrestricted: tuple[Regressor, ...]
-    restriction: tuple[float, ...]
+    restriction: tuple[float, ...]  # empty: the theory imposes no restriction
     restricted: tuple[Regressor, ...]
     parameters: ParameterMap
-    crosscheck: CrossCheck
+    crosscheck: CrossCheck | None
     needs_span: bool = False
+    span: float | None = None
+
+    @property
+    def restricts(self) -> bool:
+        return bool(self.restriction)
+
+    @property
+    def converges(self) -> bool:
+        """True for forms that estimate a speed of convergence."""
+        return "lam" in self.parameters.names
 
     @property
     def restriction_text(self) -> str:
+        if not self.restriction:
+            return "none"
         terms = [f"b[{r.label}]" for r, w in zip(self.unrestricted, self.restriction, strict=True)
                  if w]
         return " + ".join(terms) + " = 0"
@@ -136,179 +167,235 @@ def _minus_ngd(col: str, label: str) -> Regressor:
     return Regressor(f"{col}_less_ln_ngd", f"{label} - ln(n+g+d)", {col: 1.0, "ln_ngd": -1.0})
 
 
+LN_Y0 = _reg("ln_y0", "ln(y_0)")
 LN_SK = _reg("ln_sk", "ln(s_k)")
 LN_NGD = _reg("ln_ngd", "ln(n+g+d)")
 LN_SH = _reg("ln_sh", "ln(s_h)")
 LN_H = _reg("ln_h", "ln(h)")
 
 
-# --- share = c / (1 + c) and friends -------------------------------------------------------
+# --- building blocks: theta is 1 in the levels form, -b_0 (at position p) in the growth form --
 
-def _ratio_map(name: str) -> VectorMap:
-    """a = c/(1+c) for one slope."""
-    return VectorMap(
-        (name,),
-        lambda c: np.array([c[0] / (1 + c[0])]),
-        lambda c: np.array([[1 / (1 + c[0]) ** 2]]),
-    )
+def _theta(c: Vector, p: int | None) -> float:
+    return 1.0 if p is None else float(-c[p])
 
 
-def _negative_ratio_map(name: str, position: int, size: int) -> VectorMap:
-    """q = -b/(1-b) for the slope at ``position`` (the n + g + delta slope)."""
+def _share_map(names: tuple[str, ...], k: int, h: int | None, size: int, p: int | None,
+               stock: bool) -> VectorMap:
+    """Shares from slopes at k (physical) and h (human), with theta from position p.
+
+    Rate: D = theta + c_k + c_h, a = c_k/D, b = c_h/D.
+    Stock: D = theta + c_k, a = c_k/D, b = c_h/D.
+    """
+
+    def denom(c: Vector) -> float:
+        extra = 0.0 if (h is None or stock) else c[h]
+        return _theta(c, p) + c[k] + extra
 
     def value(c: Vector) -> Vector:
-        b = c[position]
-        return np.array([-b / (1 - b)])
+        d = denom(c)
+        vals = [c[k] / d] + ([c[h] / d] if h is not None else [])
+        return np.array(vals[: len(names)])
+
+    def jac(c: Vector) -> Vector:
+        d = denom(c)
+        out = np.zeros((len(names), size))
+        ck = c[k]
+        # d a / d c_k, d a / d c_h, d a / d b_0 (theta = -b_0, so d theta / d b_0 = -1)
+        out[0, k] = (d - ck) / d**2
+        if h is not None and not stock:
+            out[0, h] = -ck / d**2
+        if p is not None:
+            out[0, p] = ck / d**2
+        if h is not None and len(names) > 1:
+            ch = c[h]
+            out[1, k] = -ch / d**2
+            out[1, h] = 1 / d if stock else (d - ch) / d**2
+            if p is not None:
+                out[1, p] = ch / d**2
+        return out
+
+    return VectorMap(names, value, jac)
+
+
+def _speed_map(p: int, size: int, span: float | None) -> VectorMap:
+    """lam = -ln(1 + b_0)/T from the coefficient on initial income (position p)."""
+    t = span if span else math.nan
+
+    def value(c: Vector) -> Vector:
+        return np.array([-math.log1p(c[p]) / t if c[p] > -1 else math.nan])
 
     def jac(c: Vector) -> Vector:
         out = np.zeros((1, size))
-        out[0, position] = -1 / (1 - c[position]) ** 2
+        out[0, p] = -1 / ((1 + c[p]) * t)
+        return out
+
+    return VectorMap(("lam",), value, jac)
+
+
+def _stack(*maps: VectorMap) -> VectorMap:
+    return VectorMap(tuple(n for m in maps for n in m.names),
+                     lambda c: np.concatenate([m.value(c) for m in maps]),
+                     lambda c: np.vstack([np.atleast_2d(m.jacobian(c)) for m in maps]))
+
+
+def _sum_map(m: VectorMap, name: str) -> VectorMap:
+    return VectorMap((name,), lambda c: np.array([m.value(c).sum()]),
+                     lambda c: m.jacobian(c).sum(axis=0, keepdims=True))
+
+
+def _from_growth_slope(name: str, n: int, size: int, p: int | None) -> VectorMap:
+    """q = -b_n/(theta - b_n): the share (or sum of shares) the n + g + delta slope implies."""
+
+    def value(c: Vector) -> Vector:
+        t, b = _theta(c, p), c[n]
+        return np.array([-b / (t - b)])
+
+    def jac(c: Vector) -> Vector:
+        t, b = _theta(c, p), c[n]
+        out = np.zeros((1, size))
+        out[0, n] = -t / (t - b) ** 2
+        if p is not None:
+            out[0, p] = -b / (t - b) ** 2
         return out
 
     return VectorMap((name,), value, jac)
 
 
-def _two_share_map(k: int, h: int, size: int) -> VectorMap:
-    """(a, b) = (c_k, c_h) / (1 + c_k + c_h) for slopes at positions k and h."""
-
-    def value(c: Vector) -> Vector:
-        d = 1 + c[k] + c[h]
-        return np.array([c[k] / d, c[h] / d])
-
-    def jac(c: Vector) -> Vector:
-        ck, ch = c[k], c[h]
-        d2 = (1 + ck + ch) ** 2
-        out = np.zeros((2, size))
-        out[0, k], out[0, h] = (1 + ch) / d2, -ck / d2
-        out[1, k], out[1, h] = -ch / d2, (1 + ck) / d2
-        return out
-
-    return VectorMap(("alpha", "beta"), value, jac)
+def _take(m: VectorMap, rows: slice) -> VectorMap:
+    return VectorMap(m.names[rows], lambda c: m.value(c)[rows],
+                     lambda c: np.atleast_2d(m.jacobian(c))[rows])
 
 
-def _sum_of(m: VectorMap, name: str) -> VectorMap:
-    return VectorMap((name,), lambda c: np.array([m.value(c).sum()]),
-                     lambda c: m.jacobian(c).sum(axis=0, keepdims=True))
+def _problem(p: int | None, shares_of: VectorFn, domain: Callable[[Vector], float]
+             ) -> Callable[[Vector], str | None]:
+    def problem(c: Vector) -> str | None:
+        if p is not None:
+            if c[p] >= 0:
+                return ("no convergence: the coefficient on initial income is not negative, so "
+                        "the estimates imply no convergence to a steady state")
+            if c[p] <= -1:
+                return ("the coefficient on initial income is -1 or below: the speed of "
+                        "convergence is not defined")
+        if domain(c) <= 0 or shares_of(c).sum() >= 1:
+            return ("no steady state: the estimates imply non-diminishing returns to the "
+                    "accumulable factors (shares summing to 1 or more)")
+        return None
+
+    return problem
 
 
-def _stock_map(k: int, h: int, size: int) -> VectorMap:
-    """(a, b) = (c_k/(1+c_k), c_h/(1+c_k)) for the human-capital-stock form."""
+def _build(form: str, capital: tuple[str, ...], span: float | None) -> ModelForm:
+    growth = form == "growth"
+    human = next((k for k in capital if k != "physical"), None)
+    stock = human == "human_stock"
+    p = 0 if growth else None  # position of b_0 among the slopes
+    off = 1 if growth else 0
+    lead = (LN_Y0,) if growth else ()
+    dependent = ("ln_growth", "log change of income per worker") if growth else (
+        "ln_y", "log income per worker")
+    needs = ("income", "income_start") if growth else ("income",)
 
-    def value(c: Vector) -> Vector:
-        d = 1 + c[k]
-        return np.array([c[k] / d, c[h] / d])
+    if growth and not capital:  # unconditional convergence: initial income alone
+        speed = _speed_map(0, 1, span)
+        params = ParameterMap(
+            forward=speed,
+            inverse=lambda q: np.array([-(1 - math.exp(-q[0] * span))]) if span else
+            np.array([math.nan]),
+            domain=lambda c: float(min(-c[0], 1 + c[0])),
+            problem=_problem(0, lambda c: np.zeros(1), lambda c: 1.0),
+            shares=(),
+            single={"lam": 0},
+        )
+        return ModelForm("growth:unconditional", form, (), "unconditional convergence: growth "
+                         "on initial income alone", *dependent, needs, (LN_Y0,), (), (LN_Y0,),
+                         params, None, needs_span=True, span=span)
 
-    def jac(c: Vector) -> Vector:
-        d = 1 + c[k]
-        out = np.zeros((2, size))
-        out[0, k] = 1 / d**2
-        out[1, k], out[1, h] = -c[h] / d**2, 1 / d
-        return out
+    human_reg = {"human_rate": LN_SH, "human_stock": LN_H}.get(human or "")
+    unres = (*lead, LN_SK, LN_NGD, *((human_reg,) if human_reg else ()))
+    restricted_human = (() if human is None else
+                        (LN_H,) if stock else (_minus_ngd("ln_sh", "ln(s_h)"),))
+    res = (*lead, _minus_ngd("ln_sk", "ln(s_k)"), *restricted_human)
+    restriction = (*((0.0,) if growth else ()), 1.0, 1.0,
+                   *(() if human is None else (0.0 if stock else 1.0,)))
+    names = ("alpha",) if human is None else ("alpha", "beta")
+    k_r, h_r = off, (off + 1 if human else None)
+    share_fwd = _share_map(names, k_r, h_r, len(res), p, stock)
+    forward = _stack(share_fwd, _speed_map(0, len(res), span)) if growth else share_fwd
 
-    return VectorMap(("alpha", "beta"), value, jac)
+    def domain(c: Vector) -> float:
+        extra = 0.0 if (h_r is None or stock) else c[h_r]
+        d = _theta(c, p) + c[k_r] + extra
+        return float(min(d, -c[0], 1 + c[0])) if growth else float(d)
 
+    def inverse(q: Vector) -> Vector:
+        a = q[0]
+        b = q[1] if human else 0.0
+        theta = (1 - math.exp(-q[-1] * span)) if growth and span else (
+            math.nan if growth else 1.0)
+        scale = theta / ((1 - a) if stock else (1 - a - b))
+        out = [a * scale] + ([b * scale] if human else [])
+        return np.array(([-theta] if growth else []) + out)
 
-def _levels_physical() -> ModelForm:
-    forward = _ratio_map("alpha")
-    # unrestricted order: ln_sk (0), ln_ngd (1); alpha from the investment slope alone
-    from_invest = VectorMap(("alpha",), lambda c: forward.value(c[:1]),
-                            lambda c: np.hstack([forward.jacobian(c[:1]), [[0.0]]]))
-    return ModelForm(
-        key="levels:physical",
-        form="levels",
-        capital=("physical",),
-        description="steady-state income, physical capital only",
-        dependent="ln_y",
-        needs=("income", "invest", "workforce_growth"),
-        unrestricted=(LN_SK, LN_NGD),
-        restriction=(1.0, 1.0),
-        restricted=(_minus_ngd("ln_sk", "ln(s_k)"),),
-        parameters=ParameterMap(
-            forward=forward,
-            inverse=lambda p: np.array([p[0] / (1 - p[0])]),
-            denominator=lambda c: float(1 + c[0]),
-            single={"alpha": 0},
-        ),
-        crosscheck=CrossCheck(
-            shares=from_invest,
-            quantity="alpha",
-            from_rates=from_invest,
-            from_growth=_negative_ratio_map("alpha", 1, 2),
-        ),
-    )
+    single: dict[str, int] = {}
+    if growth:
+        single["lam"] = 0
+    elif human is None or stock:
+        single["alpha"] = k_r  # a = c_k/(1 + c_k) alone when theta = 1
 
+    params = ParameterMap(forward, inverse, domain, _problem(p, share_fwd.value, domain),
+                          names, single)
 
-def _levels_human_rate() -> ModelForm:
-    restricted_map = _two_share_map(0, 1, 2)
-    # unrestricted order: ln_sk (0), ln_ngd (1), ln_sh (2)
-    rates = _two_share_map(0, 2, 3)
-    return ModelForm(
-        key="levels:physical+human_rate",
-        form="levels",
-        capital=("physical", "human_rate"),
-        description="steady-state income, physical capital and human-capital investment",
-        dependent="ln_y",
-        needs=("income", "invest", "workforce_growth", "schooling"),
-        unrestricted=(LN_SK, LN_NGD, LN_SH),
-        restriction=(1.0, 1.0, 1.0),
-        restricted=(_minus_ngd("ln_sk", "ln(s_k)"), _minus_ngd("ln_sh", "ln(s_h)")),
-        parameters=ParameterMap(
-            forward=restricted_map,
-            inverse=lambda p: np.array([p[0], p[1]]) / (1 - p[0] - p[1]),
-            denominator=lambda c: float(1 + c[0] + c[1]),
-        ),
-        crosscheck=CrossCheck(
-            shares=rates,
-            quantity="alpha+beta",
-            from_rates=_sum_of(rates, "alpha+beta"),
-            from_growth=_negative_ratio_map("alpha+beta", 1, 3),
-        ),
-    )
-
-
-def _levels_human_stock() -> ModelForm:
-    # unrestricted order: ln_sk (0), ln_ngd (1), ln_h (2)
-    stock_unres = _stock_map(0, 2, 3)
-    alpha_only = VectorMap(("alpha",), lambda c: stock_unres.value(c)[:1],
-                           lambda c: stock_unres.jacobian(c)[:1])
-    return ModelForm(
-        key="levels:physical+human_stock",
-        form="levels",
-        capital=("physical", "human_stock"),
-        description="steady-state income, physical capital and a human-capital stock",
-        dependent="ln_y",
-        needs=("income", "invest", "workforce_growth", "human_stock"),
-        unrestricted=(LN_SK, LN_NGD, LN_H),
-        restriction=(1.0, 1.0, 0.0),
-        restricted=(_minus_ngd("ln_sk", "ln(s_k)"), LN_H),
-        parameters=ParameterMap(
-            forward=_stock_map(0, 1, 2),
-            inverse=lambda p: np.array([p[0], p[1]]) / (1 - p[0]),
-            denominator=lambda c: float(1 + c[0]),
-            single={"alpha": 0},
-        ),
-        crosscheck=CrossCheck(
-            shares=stock_unres,
-            quantity="alpha",
-            from_rates=alpha_only,
-            from_growth=_negative_ratio_map("alpha", 1, 3),
-        ),
-    )
+    k_u, n_u, h_u = off, off + 1, (off + 2 if human else None)
+    rate_shares = _share_map(names, k_u, h_u, len(unres), p, stock)
+    quantity = "alpha+beta" if (human and not stock) else "alpha"
+    from_rates = _sum_map(rate_shares, quantity) if quantity == "alpha+beta" else _take(
+        rate_shares, slice(0, 1))
+    shares = _stack(rate_shares, _speed_map(0, len(unres), span)) if growth else rate_shares
+    cross = CrossCheck(shares, quantity, from_rates,
+                       _from_growth_slope(quantity, n_u, len(unres), p))
+    what = {None: "physical capital only", "human_rate": "physical capital and human-capital "
+            "investment", "human_stock": "physical capital and a human-capital stock"}[human]
+    desc = ("growth over the span (conditional convergence), " if growth else
+            "steady-state income, ") + what
+    key = form_key(form, capital)
+    needs_all = (*needs, "invest", "workforce_growth",
+                 *(() if human is None else ("human_stock" if stock else "schooling",)))
+    return ModelForm(key, form, tuple(capital), desc, *dependent, needs_all, unres,
+                     restriction, res, params, cross, needs_span=growth, span=span)
 
 
-FORMS: dict[str, ModelForm] = {
-    f.key: f for f in (_levels_physical(), _levels_human_rate(), _levels_human_stock())
-}
-FORM_NAMES: tuple[str, ...] = tuple(sorted({f.form for f in FORMS.values()}))
+_CAPITALS: tuple[tuple[str, tuple[str, ...]], ...] = (
+    ("levels", ("physical",)),
+    ("levels", ("physical", "human_rate")),
+    ("levels", ("physical", "human_stock")),
+    ("growth", ()),
+    ("growth", ("physical",)),
+    ("growth", ("physical", "human_rate")),
+    ("growth", ("physical", "human_stock")),
+)
 
 
 def form_key(form: str, capital: tuple[str, ...] | list[str]) -> str:
     order = {k: i for i, k in enumerate(CAPITAL_KINDS)}
     kinds = sorted(dict.fromkeys(capital), key=lambda k: order.get(k, 99))
-    return f"{form}:{'+'.join(kinds)}"
+    return f"{form}:{'+'.join(kinds) if kinds else 'unconditional'}"
 
 
-def find_form(form: str, capital: tuple[str, ...] | list[str]) -> ModelForm:
+FORM_KEYS: tuple[str, ...] = tuple(form_key(f, c) for f, c in _CAPITALS)
+
+
+@lru_cache(maxsize=64)
+def get_form(key: str, span: float | None = None) -> ModelForm:
+    """The form with this key, its convergence maps bound to ``span`` years."""
+    for f, c in _CAPITALS:
+        if form_key(f, c) == key:
+            return _build(f, c, span if f == "growth" else None)
+    raise KeyError(key)
+
+
+def find_form(form: str, capital: tuple[str, ...] | list[str],
+              span: float | None = None) -> ModelForm:
     """Look a form up by its name and capital list; ValueError names the valid choices."""
     from .errors import one_of
 
@@ -318,9 +405,9 @@ def find_form(form: str, capital: tuple[str, ...] | list[str]) -> ModelForm:
         if kind not in CAPITAL_KINDS:
             raise ValueError(f"capital: {one_of(kind, CAPITAL_KINDS)}")
     key = form_key(form, capital)
-    if key not in FORMS:
-        valid = sorted("[" + ", ".join(f'"{k}"' for k in f.capital) + "]"
-                       for f in FORMS.values() if f.form == form)
+    if key not in FORM_KEYS:
+        valid = sorted("[" + ", ".join(f'"{k}"' for k in c) + "]" for f, c in _CAPITALS
+                       if f == form)
         raise ValueError(f"capital: form '{form}' takes capital = {' or '.join(valid)}, "
                          f"not {list(capital)}")
-    return FORMS[key]
+    return get_form(key, span)

@@ -85,16 +85,46 @@ class CrossCheckResult:
 
 
 @dataclass(frozen=True)
+class NonlinearFit:
+    """Nonlinear least squares in the structural parameters (restriction imposed)."""
+
+    estimates: tuple[Estimate, ...]  # classical standard errors
+    robust: tuple[Estimate, ...]  # the run's robust covariance (HC1 when it is classical)
+    robust_covariance: str
+    intercept: float
+    ssr: float
+    evaluations: int
+
+    def estimate(self, name: str, robust: bool = False) -> Estimate | None:
+        return next((e for e in (self.robust if robust else self.estimates) if e.name == name),
+                    None)
+
+
+@dataclass(frozen=True)
+class MinimumDistanceFit:
+    """Parameters fitted to the unrestricted slopes, with the over-identification test."""
+
+    estimates: tuple[Estimate, ...]
+    overid: TestResult
+    covariance: str  # of the unrestricted slopes used as the weight
+
+    def estimate(self, name: str) -> Estimate | None:
+        return next((e for e in self.estimates if e.name == name), None)
+
+
+@dataclass(frozen=True)
 class Observations:
     """The estimation sample of one result, for figures: log income and the regressors.
 
     ``x`` is the unrestricted design (constant first), columns named like the
-    unrestricted fit's coefficients.
+    unrestricted fit's coefficients; ``x_restricted`` likewise for the restricted
+    fit.  ``y`` is the dependent variable (log income, or its log change).
     """
 
     economies: tuple[str, ...]
     y: np.ndarray
     x: np.ndarray
+    x_restricted: np.ndarray
 
 
 @dataclass(frozen=True)
@@ -109,16 +139,28 @@ class EquationFindings:
     economies: tuple[str, ...]
     dropped: tuple[Dropped, ...]
     n_in_sample: int
+    dependent_label: str
     unrestricted: Fit
     restricted: Fit
-    f_test: TestResult
-    wald_test: TestResult
+    f_test: TestResult | None  # None where the form imposes no restriction
+    wald_test: TestResult | None
     shares: tuple[ShareVerdict, ...]
+    speed: tuple[Estimate, ...]  # lam and half_life for growth forms
     unrestricted_shares: tuple[Estimate, ...]
-    crosscheck: CrossCheckResult
-    steady_state: bool
+    crosscheck: CrossCheckResult | None
+    problem: str | None  # why the estimates imply no ordinary parameters, or None
     observations: Observations
     notes: tuple[str, ...] = ()
+    minimum_distance: MinimumDistanceFit | None = None
+    nonlinear: NonlinearFit | None = None
+
+    @property
+    def steady_state(self) -> bool:
+        """True when the restricted estimates imply ordinary parameters (see ``problem``)."""
+        return self.problem is None
+
+    def speed_estimate(self, name: str) -> Estimate | None:
+        return next((e for e in self.speed if e.name == name), None)
 
     @property
     def nobs(self) -> int:
@@ -130,6 +172,21 @@ class EquationFindings:
 
     def share(self, name: str) -> ShareVerdict | None:
         return next((s for s in self.shares if s.name == name), None)
+
+
+@dataclass(frozen=True)
+class ConsistencyCheck:
+    """One quantity estimated by a levels and a growth equation on the same sample."""
+
+    sample: str
+    levels_equation: str
+    growth_equation: str
+    quantity: str  # "lam", "alpha" or "beta"
+    from_levels: Estimate
+    from_growth: Estimate
+    difference: Estimate  # growth minus levels
+    test: TestResult
+    joint_covariance: bool  # False: the two fits were treated as independent
 
 
 @dataclass(frozen=True)
@@ -172,6 +229,7 @@ class Settings:
     bands: dict[str, tuple[float, float]]
     points: dict[str, float]
     non_positive: str
+    max_evaluations: int = 2000
     digits: int = 3
     stars: bool = False
 
@@ -199,6 +257,7 @@ class Findings:
     provenance: Provenance
     caveats: tuple[str, ...] = field(default=())
     scorecard: tuple[TargetCheck, ...] = ()
+    consistency: tuple[ConsistencyCheck, ...] = ()
 
     @property
     def targets_met(self) -> bool:

@@ -8,6 +8,8 @@ quantities use the normal distribution.
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 from scipy import stats
 
@@ -39,9 +41,14 @@ def normal_estimate(name: str, value: float, se: float, confidence: float,
                     confidence, *(exact if exact else (None, None)))
 
 
-def restriction_tests(design: Design, unrestricted: Fit, restricted: Fit) -> tuple[TestResult,
-                                                                                  TestResult]:
-    """F test (classical, from sums of squares) and Wald test (run's covariance) of R b = 0."""
+def restriction_tests(design: Design, unrestricted: Fit, restricted: Fit
+                      ) -> tuple[TestResult | None, TestResult | None]:
+    """F test (classical, from sums of squares) and Wald test (run's covariance) of R b = 0.
+
+    Both are None for a form that imposes no restriction.
+    """
+    if not design.form.restricts:
+        return None, None
     r = design.restriction
     q = r.shape[0]
     null = design.form.restriction_text
@@ -66,17 +73,26 @@ def band_status(low: float, high: float, band: tuple[float, float]) -> BandStatu
     return "overlaps"
 
 
+def z_test(name: str, z: float, null: str) -> TestResult:
+    """A two-sided test of a statistic that is standard normal under ``null``."""
+    return TestResult(name, float(z), float(2 * stats.norm.sf(abs(z))), (), "normal", null)
+
+
 def point_test(est: Estimate, point: float) -> TestResult:
     """Two-sided z-test of ``est.name = point``."""
     z = (est.value - point) / est.se if est.se > 0 else np.inf
-    return TestResult(f"z test of {est.name} = {point:.4g}", float(z),
-                      float(2 * stats.norm.sf(abs(z))), (), "normal", f"{est.name} = {point:.4g}")
+    return z_test(f"z test of {est.name} = {point:.4g}", z, f"{est.name} = {point:.4g}")
 
 
-def implied_shares(form: ModelForm, restricted: Fit, confidence: float,
-                   bands: dict[str, tuple[float, float]],
-                   points: dict[str, float]) -> tuple[tuple[ShareVerdict, ...], bool]:
-    """Shares implied by the restricted slopes, judged; and whether a steady state exists."""
+def implied_parameters(form: ModelForm, restricted: Fit, confidence: float,
+                       bands: dict[str, tuple[float, float]], points: dict[str, float]
+                       ) -> tuple[tuple[ShareVerdict, ...], tuple[Estimate, ...], str | None]:
+    """Parameters implied by the restricted slopes.
+
+    Returns the judged shares (with their sum where there are two), the speed
+    of convergence and half-life (growth forms), and the reason the estimates
+    imply no ordinary parameters (None when they do).
+    """
     c, v = restricted.slopes()
     pmap = form.parameters
     values, cov = delta_method(pmap.forward, c, v)
@@ -90,19 +106,32 @@ def implied_shares(form: ModelForm, restricted: Fit, confidence: float,
             for bound in coef_ci[j]:
                 at = c.copy()
                 at[j] = bound
-                if pmap.denominator(at) <= 0:
+                if pmap.domain(at) <= 0:
                     break
                 ends.append(float(pmap.forward.value(at)[i]))
             if len(ends) == 2:
                 exact = (min(ends), max(ends))
         estimates.append(normal_estimate(name, values[i], np.sqrt(cov[i, i]), confidence, exact))
-    if len(pmap.names) > 1:
-        ones = np.ones(len(values))
-        estimates.append(normal_estimate("+".join(pmap.names), values.sum(),
+    share_idx = [pmap.names.index(s) for s in pmap.shares]
+    if len(share_idx) > 1:
+        ones = np.zeros(len(values))
+        ones[share_idx] = 1.0
+        estimates.append(normal_estimate("+".join(pmap.shares), values[share_idx].sum(),
                                          np.sqrt(ones @ cov @ ones), confidence))
-    steady = pmap.denominator(c) > 0 and values.sum() < 1
+    speed = tuple(e for e in estimates if e.name == "lam")
+    if speed:
+        lam = speed[0]
+        # half-life ln 2 / lam; its exact interval maps the ends of lam's (decreasing map)
+        exact = None
+        if lam.exact_low is not None and lam.exact_high is not None and lam.exact_low > 0:
+            exact = (math.log(2) / lam.exact_high, math.log(2) / lam.exact_low)
+        ok = lam.value > 0  # nan or a non-positive speed has no half-life
+        speed += (normal_estimate("half_life", math.log(2) / lam.value if ok else math.nan,
+                                  math.log(2) / lam.value**2 * lam.se if ok else math.nan,
+                                  confidence, exact),)
+    problem = pmap.problem(c)
     verdicts = []
-    for est in estimates:
+    for est in (e for e in estimates if e.name != "lam"):
         band = bands.get(est.name)
         point = points.get(est.name)
         verdicts.append(ShareVerdict(
@@ -113,14 +142,16 @@ def implied_shares(form: ModelForm, restricted: Fit, confidence: float,
             point_test=point_test(est, point) if point is not None else None,
             interval_reaches_one=bool(est.high >= 1) and (est.name == "alpha" or "+" in est.name),
         ))
-    return tuple(verdicts), bool(steady)
+    return tuple(verdicts), speed, problem
 
 
-def unrestricted_shares(form: ModelForm, unrestricted: Fit,
-                        confidence: float) -> tuple[tuple[Estimate, ...], CrossCheckResult]:
+def unrestricted_shares(form: ModelForm, unrestricted: Fit, confidence: float
+                        ) -> tuple[tuple[Estimate, ...], CrossCheckResult | None]:
     """Shares from the unrestricted investment slopes, and the cross-check with n + g + delta."""
     c, v = unrestricted.slopes()
     check = form.crosscheck
+    if check is None:
+        return (), None
     values, cov = delta_method(check.shares, c, v)
     shares = tuple(normal_estimate(n, values[i], np.sqrt(cov[i, i]), confidence)
                    for i, n in enumerate(check.shares.names))
@@ -136,8 +167,7 @@ def unrestricted_shares(form: ModelForm, unrestricted: Fit,
         found.append(normal_estimate(vmap.names[0], val[0], np.sqrt(var[0, 0]), confidence))
     gap = found[2]
     z = gap.value / gap.se if gap.se > 0 else np.inf
-    test = TestResult(f"z test that both ways give the same {check.quantity}", float(z),
-                      float(2 * stats.norm.sf(abs(z))), (), "normal",
-                      f"{check.quantity} from investment slopes = {check.quantity} from the "
-                      "n+g+d slope")
+    test = z_test(f"z test that both ways give the same {check.quantity}", z,
+                  f"{check.quantity} from investment slopes = {check.quantity} from the "
+                  "n+g+d slope")
     return shares, CrossCheckResult(check.quantity, found[0], found[1], gap, test)

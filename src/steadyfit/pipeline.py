@@ -13,8 +13,10 @@ from importlib import metadata
 from pathlib import Path
 
 from . import equations
+from .consistency import consistency_checks
 from .data import EconomyTable, Selection, load_data, select
 from .design import Design, build_design
+from .errors import EstimationError
 from .estimators import fit_ols
 from .findings import (
     EquationFindings,
@@ -25,9 +27,10 @@ from .findings import (
     Settings,
     TargetCheck,
 )
-from .inference import implied_shares, restriction_tests, unrestricted_shares
+from .inference import implied_parameters, restriction_tests, unrestricted_shares
 from .quantities import quantities
 from .spec import Spec, load_spec
+from .structural import minimum_distance, nonlinear_least_squares
 
 _VERSIONED = ("steadyfit", "numpy", "scipy", "pandas", "statsmodels", "pydantic")
 
@@ -38,6 +41,7 @@ class PlannedCell:
 
     selection: Selection
     design: Design
+    structural: bool = False
 
 
 @dataclass(frozen=True)
@@ -57,10 +61,11 @@ def plan(spec: Spec | str | Path) -> Plan:
     table = load_data(spec)
     cells = []
     for eq in spec.body.equation:
-        form = equations.find_form(eq.form, eq.capital)
+        form = equations.find_form(eq.form, eq.capital, spec.body.assumptions.span_years)
         for sample in spec.equation_samples(eq):
             selection = select(table, spec, sample, form)
-            cells.append(PlannedCell(selection, build_design(selection, form, eq.name)))
+            cells.append(PlannedCell(selection, build_design(selection, form, eq.name),
+                                     eq.structural))
     return Plan(spec, table, tuple(cells))
 
 
@@ -75,6 +80,7 @@ def settings_of(spec: Spec) -> Settings:
         bands={"alpha": b.plausible.alpha, "beta": b.plausible.beta},
         points={"alpha": b.plausible.alpha_point, "beta": b.plausible.beta_point},
         non_positive=b.data.non_positive,
+        max_evaluations=b.inference.max_evaluations,
         digits=b.report.digits,
         stars=b.report.stars,
     )
@@ -88,22 +94,33 @@ def estimate_cell(cell: PlannedCell, settings: Settings) -> EquationFindings:
     res = fit_ols(d.y, d.x_restricted, d.names_restricted, d.labels_restricted,
                   settings.covariance, d.clusters)  # type: ignore[arg-type]
     f_test, wald = restriction_tests(d, unres, res)
-    shares, steady = implied_shares(d.form, res, settings.confidence, settings.bands,
-                                    settings.points)
+    shares, speed, problem = implied_parameters(d.form, res, settings.confidence,
+                                                settings.bands, settings.points)
     un_shares, cross = unrestricted_shares(d.form, unres, settings.confidence)
     notes = []
-    if not steady:
-        notes.append("The restricted estimates imply non-diminishing returns to the accumulable "
-                     "factors (shares summing to 1 or more): no steady state exists, and the "
-                     "implied shares are not ordinary numbers.")
+    start = d.form.parameters.forward.value(res.slopes()[0])
+    md = nls = None
+    where = f"equation '{d.equation}' on sample '{d.sample}'"
+    if problem is not None:
+        notes.append(f"{problem[0].upper()}{problem[1:]}; the implied parameters are not "
+                     "ordinary numbers.")
+        if cell.structural:
+            raise EstimationError(f"cannot start nonlinear least squares: the linear fit "
+                                  f"implies {problem}", where)
+    else:
+        md = minimum_distance(d.form, unres, start, settings.confidence, where)
+        if cell.structural:
+            nls = nonlinear_least_squares(d, start, float(res.coef[0]), settings.covariance,
+                                          settings.confidence, settings.max_evaluations)
     return EquationFindings(
         equation=d.equation, sample=d.sample, form_key=d.form.key,
         description=d.form.description, restriction_text=d.form.restriction_text,
         economies=d.economies, dropped=cell.selection.dropped,
-        n_in_sample=cell.selection.n_in_sample, unrestricted=unres, restricted=res,
-        f_test=f_test, wald_test=wald, shares=shares, unrestricted_shares=un_shares,
-        crosscheck=cross, steady_state=steady,
-        observations=Observations(d.economies, d.y, d.x_unrestricted), notes=tuple(notes))
+        n_in_sample=cell.selection.n_in_sample, dependent_label=d.form.dependent_label,
+        unrestricted=unres, restricted=res, f_test=f_test, wald_test=wald, shares=shares,
+        speed=speed, unrestricted_shares=un_shares, crosscheck=cross, problem=problem,
+        observations=Observations(d.economies, d.y, d.x_unrestricted, d.x_restricted),
+        notes=tuple(notes), minimum_distance=md, nonlinear=nls)
 
 
 def _versions() -> dict[str, str]:
@@ -161,6 +178,7 @@ def run(spec: Spec | str | Path) -> Findings:
         TargetCheck(t.equation, t.sample, t.quantity, t.value,
                     by_cell[(t.equation, t.sample)][t.quantity], t.tolerance, t.source)
         for t in p.spec.body.target)
+    checks = consistency_checks(results, settings)
     return Findings(
         title=p.spec.body.title,
         spec_stem=p.spec.stem,
@@ -171,6 +189,7 @@ def run(spec: Spec | str | Path) -> Findings:
         provenance=prov,
         caveats=caveats(p.spec, p.table),
         scorecard=scorecard,
+        consistency=checks,
     )
 
 

@@ -18,6 +18,11 @@ same way:
                        ``<share>_high``
 ``unrestricted_<s>``   share from the unrestricted investment slopes (and ``_se``)
 ``crosscheck_gap``     difference of the quantity implied both ways; ``crosscheck_p``
+``lam``, ``half_life``  speed of convergence and half-life (growth forms; with
+                       ``_se``, ``_low``, ``_high``)
+``md_<p>``             minimum-distance estimate (and ``_se``); ``md_overid``,
+                       ``md_overid_p`` the over-identification test
+``nls_<p>``            nonlinear least squares (``_se`` classical, ``_robust_se``)
 =====================  ==========================================================
 """
 
@@ -37,17 +42,26 @@ def quantity_names(form: ModelForm) -> tuple[str, ...]:
     """Every quantity name a result of ``form`` carries (for validating targets early)."""
     unres = (CONSTANT, *(r.name for r in form.unrestricted))
     res = (CONSTANT, *(r.name for r in form.restricted))
-    shares = list(form.parameters.names)
-    if len(shares) > 1:
-        shares.append("+".join(shares))
+    params = list(form.parameters.shares)
+    if len(params) > 1:
+        params.append("+".join(params))
+    if form.converges:
+        params += ["lam", "half_life"]
     names = [f"{k}:{n}" for n in unres for k in ("coef", "se")]
     names += [f"{k}:{n}" for n in res for k in ("restricted_coef", "restricted_se")]
-    names += ["nobs", "r2", "adj_r2", "ser", "restricted_adj_r2", "restricted_ser",
-              "restriction_f", "restriction_p", "restriction_wald", "restriction_wald_p"]
-    names += [f"{s}{suffix}" for s in shares for suffix in ("", "_se", "_low", "_high")]
-    names += [f"unrestricted_{s}{suffix}" for s in form.crosscheck.shares.names
-              for suffix in ("", "_se")]
-    names += ["crosscheck_gap", "crosscheck_gap_se", "crosscheck_p"]
+    names += ["nobs", "r2", "adj_r2", "ser", "restricted_adj_r2", "restricted_ser"]
+    if form.restricts:
+        names += ["restriction_f", "restriction_p", "restriction_wald", "restriction_wald_p"]
+    names += [f"{s}{suffix}" for s in params for suffix in ("", "_se", "_low", "_high")]
+    if form.crosscheck is not None:
+        names += [f"unrestricted_{s}{suffix}" for s in form.crosscheck.shares.names
+                  for suffix in ("", "_se")]
+        names += ["crosscheck_gap", "crosscheck_gap_se", "crosscheck_p"]
+    if form.restricts:
+        names += [f"md_{s}{suffix}" for s in form.parameters.names for suffix in ("", "_se")]
+        names += ["md_overid", "md_overid_p"]
+    names += [f"nls_{s}{suffix}" for s in form.parameters.names
+              for suffix in ("", "_se", "_robust_se")]
     return tuple(names)
 
 
@@ -60,15 +74,27 @@ def quantities(r: EquationFindings) -> dict[str, float]:
     for name, b, se in zip(re.names, re.coef, re.se, strict=True):
         q[f"restricted_coef:{name}"], q[f"restricted_se:{name}"] = float(b), float(se)
     q.update(nobs=float(u.nobs), r2=u.rsquared, adj_r2=u.rsquared_adj, ser=u.ser,
-             restricted_adj_r2=re.rsquared_adj, restricted_ser=re.ser,
-             restriction_f=r.f_test.statistic, restriction_p=r.f_test.pvalue,
-             restriction_wald=r.wald_test.statistic, restriction_wald_p=r.wald_test.pvalue)
-    for v in r.shares:
-        e = v.estimate
+             restricted_adj_r2=re.rsquared_adj, restricted_ser=re.ser)
+    if r.f_test is not None and r.wald_test is not None:
+        q.update(restriction_f=r.f_test.statistic, restriction_p=r.f_test.pvalue,
+                 restriction_wald=r.wald_test.statistic, restriction_wald_p=r.wald_test.pvalue)
+    for e in (*(v.estimate for v in r.shares), *r.speed):
         q[e.name], q[f"{e.name}_se"] = e.value, e.se
         q[f"{e.name}_low"], q[f"{e.name}_high"] = e.low, e.high
     for e in r.unrestricted_shares:
         q[f"unrestricted_{e.name}"], q[f"unrestricted_{e.name}_se"] = e.value, e.se
     c = r.crosscheck
-    q.update(crosscheck_gap=c.gap.value, crosscheck_gap_se=c.gap.se, crosscheck_p=c.test.pvalue)
+    if c is not None:
+        q.update(crosscheck_gap=c.gap.value, crosscheck_gap_se=c.gap.se,
+                 crosscheck_p=c.test.pvalue)
+    md = r.minimum_distance
+    if md is not None:
+        for e in md.estimates:
+            q[f"md_{e.name}"], q[f"md_{e.name}_se"] = e.value, e.se
+        q.update(md_overid=md.overid.statistic, md_overid_p=md.overid.pvalue)
+    nls = r.nonlinear
+    if nls is not None:
+        for e, rob in zip(nls.estimates, nls.robust, strict=True):
+            q[f"nls_{e.name}"], q[f"nls_{e.name}_se"] = e.value, e.se
+            q[f"nls_{e.name}_robust_se"] = rob.se
     return q

@@ -80,6 +80,7 @@ class EquationSpec(_Record):
     form: str = "levels"
     capital: tuple[str, ...] = ("physical",)
     samples: tuple[str, ...] | None = None
+    structural: bool = False
 
     @field_validator("name")
     @classmethod
@@ -91,7 +92,9 @@ class EquationSpec(_Record):
 
     @model_validator(mode="after")
     def _form_known(self) -> EquationSpec:
-        equations.find_form(self.form, self.capital)  # raises ValueError with the options
+        form = equations.find_form(self.form, self.capital)  # ValueError names the options
+        if self.structural and not form.parameters.names:
+            raise ValueError(f"structural: form '{form.key}' has no parameters to estimate")
         return self
 
 
@@ -99,6 +102,7 @@ class InferenceSpec(_Record):
     covariance: Covariance = "classical"
     cluster: str | None = None
     confidence: float = Field(0.95, gt=0.5, lt=1)
+    max_evaluations: int = Field(2000, ge=1)
 
     @model_validator(mode="after")
     def _cluster_named(self) -> InferenceSpec:

@@ -62,12 +62,12 @@ def fit_figure(r: EquationFindings, n_labels: int = 5) -> Figure:
         for i in np.argsort(-np.abs(resid))[:n_labels]:
             ax1.annotate(r.observations.economies[i], (fitted[i], y[i]), fontsize=7,
                          xytext=(3, 3), textcoords="offset points")
-        ax1.set_xlabel("fitted log income per worker")
-        ax1.set_ylabel("actual log income per worker")
+        ax1.set_xlabel(f"fitted {r.dependent_label}")
+        ax1.set_ylabel(f"actual {r.dependent_label}")
         ax1.set_title("Actual against fitted (dashed: 45-degree line)")
         ax2.scatter(fitted, resid, s=14, facecolors="none", edgecolors="black", linewidths=0.7)
         ax2.axhline(0, color="grey", linestyle="--", linewidth=0.8)
-        ax2.set_xlabel("fitted log income per worker")
+        ax2.set_xlabel(f"fitted {r.dependent_label}")
         ax2.set_ylabel("residual (log points)")
         ax2.set_title("Residuals against fitted")
         fig.tight_layout()
@@ -96,7 +96,7 @@ def partial_figure(r: EquationFindings) -> Figure:
             ax.plot(grid, r.unrestricted.coef[j] * grid, color="grey", linewidth=1.0)
             label = r.unrestricted.labels[j]
             ax.set_xlabel(f"{label}, net of the others")
-            ax.set_ylabel("log income, net of the others")
+            ax.set_ylabel("dependent variable, net of the others")
             ax.set_title(f"slope {r.unrestricted.coef[j]:.3f}")
         fig.tight_layout()
         svg = _svg(fig)
@@ -104,6 +104,44 @@ def partial_figure(r: EquationFindings) -> Figure:
                   f"Partial regressions: {r.column}",
                   "Each panel: log income and one regressor, both after removing what the other "
                   "regressors explain; the line has the estimated slope.", svg)
+
+
+def convergence_figure(r: EquationFindings) -> Figure | None:
+    """Growth against initial income: raw, and net of the other regressors (conditional)."""
+    import matplotlib.pyplot as plt
+
+    names = r.unrestricted.names
+    if "ln_y0" not in names:
+        return None
+    j = names.index("ln_y0")
+    x, y = r.observations.x, r.observations.y
+    panels = [("raw", x[:, j], y)]
+    if x.shape[1] > 2:
+        others = np.delete(x, j, axis=1)
+        proj = others @ np.linalg.lstsq(others, np.column_stack([y, x[:, j]]), rcond=None)[0]
+        panels.append(("conditional", x[:, j] - proj[:, 1], y - proj[:, 0]))
+    with plt.rc_context(_STYLE):
+        fig, axes = plt.subplots(1, len(panels), figsize=(4.0 * len(panels), 3.4), squeeze=False)
+        for ax, (kind, gx, gy) in zip(axes[0], panels, strict=True):
+            ax.scatter(gx, gy, s=14, facecolors="none", edgecolors="black", linewidths=0.7)
+            slope, intercept = np.polyfit(gx, gy, 1)
+            grid = np.linspace(gx.min(), gx.max(), 2)
+            ax.plot(grid, intercept + slope * grid, color="grey", linewidth=1.0)
+            if kind == "raw":
+                ax.set_xlabel("log initial income per worker")
+                ax.set_ylabel("log change of income per worker")
+                ax.set_title(f"Unconditional: slope {slope:.3f}")
+            else:
+                ax.set_xlabel("log initial income, net of the other regressors")
+                ax.set_ylabel("growth, net of the other regressors")
+                ax.set_title(f"Conditional: slope {slope:.3f}")
+        fig.tight_layout()
+        svg = _svg(fig)
+    return Figure(f"convergence_{_slug(r.equation)}_{_slug(r.sample)}",
+                  f"Convergence: {r.column}",
+                  "Growth over the span against initial income, with the least-squares line; "
+                  "a negative slope is convergence. The conditional panel removes what the "
+                  "other regressors explain from both axes.", svg)
 
 
 def shares_figure(findings: Findings) -> Figure | None:
@@ -157,4 +195,7 @@ def all_figures(findings: Findings) -> tuple[Figure, ...]:
         out.append(chart)
     for r in findings.results:
         out += [fit_figure(r), partial_figure(r)]
+        conv = convergence_figure(r)
+        if conv is not None:
+            out.append(conv)
     return tuple(out)

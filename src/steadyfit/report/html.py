@@ -12,6 +12,7 @@ from .tables import (
     Table,
     all_tables,
     compact_table,
+    consistency_lines,
     format_cell,
     format_number,
     format_p,
@@ -71,10 +72,10 @@ class Verdict:
     column: str
     nobs: int
     restriction: str
-    held: bool
+    held: bool | None  # None: the form imposes no restriction
     f_p: str
     wald_p: str
-    steady_state: bool
+    problem: str | None
     shares: tuple[ShareLine, ...]
     notes: tuple[str, ...]
 
@@ -88,12 +89,21 @@ def _verdict(r: EquationFindings, level: float, digits: int) -> Verdict:
             format_number(e.value, digits) if r.steady_state else "n/a",
             f"{format_number(e.low, digits)} to {format_number(e.high, digits)}",
             f"{format_number(v.band[0], 2)} to {format_number(v.band[1], 2)}" if v.band else "",
-            share_status(v, r.steady_state),
+            share_status(v, r),
             format_p(v.point_test.pvalue) if v.point_test else "",
         ))
-    return Verdict(r.column, r.nobs, r.restriction_text, not r.f_test.rejects(level),
-                   format_p(r.f_test.pvalue), format_p(r.wald_test.pvalue), r.steady_state,
-                   tuple(lines),
+    for e in r.speed:
+        fmt = (lambda x: f"{x:.1f}") if e.name == "half_life" else (
+            lambda x: format_number(x, digits + 1))
+        lines.append(ShareLine(
+            {"lam": "lambda", "half_life": "half-life (years)"}.get(e.name, e.name),
+            fmt(e.value) if r.steady_state else "n/a", f"{fmt(e.low)} to {fmt(e.high)}", "",
+            "", ""))
+    f, w = r.f_test, r.wald_test
+    return Verdict(r.column, r.nobs, r.restriction_text,
+                   None if f is None else not f.rejects(level),
+                   format_p(f.pvalue) if f else "", format_p(w.pvalue) if w else "",
+                   r.problem, tuple(lines),
                    r.notes)
 
 
@@ -129,6 +139,7 @@ def render_html(findings: Findings, figures: tuple[Figure, ...], run: dict[str, 
         conf_pct=f"{s.confidence:.0%}",
         verdicts=[_verdict(r, level, digits) for r in findings.results],
         verdict_text=verdict_lines(findings),
+        consistency=consistency_lines(findings),
         key_table=markupsafe.Markup(render_table_html(compact_table(findings), digits)),
         scorecard=markupsafe.Markup(render_table_html(card, digits)) if card else None,
         targets_met=findings.targets_met,

@@ -68,6 +68,7 @@ def _result(r: EquationFindings, confidence: float) -> dict[str, Any]:
         "equation": r.equation,
         "sample": r.sample,
         "form": r.form_key,
+        "dependent": r.dependent_label,
         "description": r.description,
         "restriction": r.restriction_text,
         "nobs": r.nobs,
@@ -76,14 +77,28 @@ def _result(r: EquationFindings, confidence: float) -> dict[str, Any]:
         "dropped": [{"economy": d.economy, "reason": d.reason} for d in r.dropped],
         "unrestricted": _fit(r.unrestricted, confidence),
         "restricted": _fit(r.restricted, confidence),
-        "restriction_tests": {"f": _test(r.f_test), "wald": _test(r.wald_test)},
+        "restriction_tests": {"f": _test(r.f_test) if r.f_test else None,
+                              "wald": _test(r.wald_test) if r.wald_test else None},
         "steady_state": r.steady_state,
+        "problem": r.problem,
         "implied_shares": [_verdict(v) for v in r.shares],
+        "convergence": [_estimate(e) for e in r.speed],
         "unrestricted_shares": [_estimate(e) for e in r.unrestricted_shares],
-        "crosscheck": {"quantity": c.quantity, "from_rates": _estimate(c.from_rates),
-                       "from_growth": _estimate(c.from_growth), "gap": _estimate(c.gap),
-                       "test": _test(c.test)},
+        "crosscheck": None if c is None else {
+            "quantity": c.quantity, "from_rates": _estimate(c.from_rates),
+            "from_growth": _estimate(c.from_growth), "gap": _estimate(c.gap),
+            "test": _test(c.test)},
         "notes": list(r.notes),
+        "minimum_distance": None if r.minimum_distance is None else {
+            "estimates": [_estimate(e) for e in r.minimum_distance.estimates],
+            "overid": _test(r.minimum_distance.overid),
+            "weight_covariance": r.minimum_distance.covariance},
+        "nonlinear_least_squares": None if r.nonlinear is None else {
+            "estimates": [_estimate(e) for e in r.nonlinear.estimates],
+            "robust": [_estimate(e) for e in r.nonlinear.robust],
+            "robust_covariance": r.nonlinear.robust_covariance,
+            "intercept": _num(r.nonlinear.intercept), "ssr": _num(r.nonlinear.ssr),
+            "evaluations": r.nonlinear.evaluations},
         "quantities": {k: _num(v) for k, v in quantities(r).items()},
     }
 
@@ -101,6 +116,7 @@ def to_record(findings: Findings, run: dict[str, Any]) -> dict[str, Any]:
             "covariance": s.covariance, "cluster": s.cluster, "confidence": s.confidence,
             "bands": {k: list(v) for k, v in s.bands.items()}, "points": s.points,
             "non_positive": s.non_positive, "digits": s.digits, "stars": s.stars,
+            "max_evaluations": s.max_evaluations,
         },
         "samples": [{"name": x.name, "filter": x.filter, "economies": x.n_selected}
                     for x in findings.samples],
@@ -111,6 +127,13 @@ def to_record(findings: Findings, run: dict[str, Any]) -> dict[str, Any]:
              "tolerance": t.tolerance, "met": t.met, "source": t.source}
             for t in findings.scorecard],
         "targets_met": findings.targets_met,
+        "consistency": [
+            {"sample": c.sample, "levels_equation": c.levels_equation,
+             "growth_equation": c.growth_equation, "quantity": c.quantity,
+             "from_levels": _estimate(c.from_levels), "from_growth": _estimate(c.from_growth),
+             "difference": _estimate(c.difference), "test": _test(c.test),
+             "joint_covariance": c.joint_covariance}
+            for c in findings.consistency],
         "warnings": list(findings.warnings),
         "caveats": list(findings.caveats),
         "provenance": asdict(findings.provenance),
