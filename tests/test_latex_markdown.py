@@ -12,7 +12,7 @@ import pytest
 import steadyfit
 from steadyfit.report.latex import render_table_latex, tex_escape, tex_label
 from steadyfit.report.markdown import render_table_md
-from steadyfit.report.tables import Cell, Row, Table, journal_table, shares_table
+from steadyfit.report.tables import Cell, Row, Table, all_tables, journal_table
 
 GOLDEN = Path(__file__).parent / "golden"
 UPDATE = os.environ.get("STEADYFIT_UPDATE_GOLDEN") == "1"
@@ -33,19 +33,25 @@ def _golden(name: str, text: str) -> None:
     assert text == path.read_text(), f"{name} changed; inspect and regenerate if intended"
 
 
-@pytest.mark.parametrize("builder", [journal_table, shares_table], ids=["journal", "shares"])
-def test_markdown_golden(demo_findings, builder):
-    _golden(f"{builder.__name__}.md", render_table_md(builder(demo_findings), 3) + "\n")
+def _table(findings, key):
+    return next(t for t in all_tables(findings) if t.key == key)
 
 
-@pytest.mark.parametrize("stars", [False, True], ids=["plain", "stars"])
-def test_latex_golden(demo_findings, stars):
-    text = render_table_latex(journal_table(demo_findings), 3, stars)
-    _golden(f"journal_table{'_stars' if stars else ''}.tex", text)
+@pytest.mark.parametrize("key", ["implied_shares", "regressions", "regressions_growth",
+                                 "structural", "consistency"])
+def test_markdown_golden(demo_findings, key):
+    _golden(f"{key}.md", render_table_md(_table(demo_findings, key), 3) + "\n")
+
+
+@pytest.mark.parametrize("key, stars", [("regressions", False), ("regressions", True),
+                                        ("regressions_growth", False)])
+def test_latex_golden(demo_findings, key, stars):
+    text = render_table_latex(_table(demo_findings, key), 3, stars)
+    _golden(f"{key}{'_stars' if stars else ''}.tex", text)
 
 
 def test_latex_digits_setting(demo_findings):
-    two = render_table_latex(journal_table(demo_findings), 2)
+    two = render_table_latex(_table(demo_findings, "regressions"), 2)
     assert "0.75" in two and "0.747" not in two
 
 

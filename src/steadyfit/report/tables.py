@@ -24,6 +24,7 @@ class Cell:
     value: object = None
     se: float | None = None
     p: float | None = None  # p-value of a coefficient, for optional significance marks
+    extra_digits: int = 0  # more (or, negative, fewer) decimals than the table's
 
     @staticmethod
     def empty() -> Cell:
@@ -79,6 +80,7 @@ def format_number(x: float, digits: int = 3) -> str:
 
 def format_cell(cell: Cell, digits: int = 3) -> tuple[str, str | None]:
     """Text of a cell and of its standard-error line (None when it has none)."""
+    digits = max(0, digits + cell.extra_digits)
     se = f"({format_number(cell.se, digits)})" if cell.se is not None else None
     v = cell.value
     if cell.kind == "empty" or v is None:
@@ -147,13 +149,17 @@ def problem_label(r: EquationFindings) -> str:
     return (r.problem or "").split(":")[0]
 
 
+# Speeds of convergence are small numbers and half-lives are years: show them so.
+EXTRA_DIGITS = {"lam": 1, "half_life": -2}
+
+
 def estimate_cell(e: Estimate | None, r: EquationFindings) -> Cell:
     """A derived parameter with its standard error, or why there is none."""
     if e is None:
         return Cell.empty()
     if not r.steady_state:
         return Cell("text", problem_label(r))
-    return Cell("number", e.value, e.se)
+    return Cell("number", e.value, e.se, extra_digits=EXTRA_DIGITS.get(e.name, 0))
 
 
 def share_cell(v: ShareVerdict | None, r: EquationFindings) -> Cell:
@@ -292,13 +298,14 @@ def shares_table(findings: Findings) -> Table:
         lines = [(v.estimate, v) for v in r.shares] + [(e, None) for e in r.speed]
         for e, v in lines:
             ok = r.steady_state
+            x = EXTRA_DIGITS.get(e.name, 0)
             cells = (
                 Cell("text", e.name),
-                Cell("number", e.value) if ok else Cell("text", "n/a"),
-                Cell("number", e.se) if ok else Cell("text", "-"),
-                _interval(e) if ok else Cell("text", "-"),
-                Cell("interval", (e.exact_low, e.exact_high)) if ok and e.exact_low is not None
-                else Cell("text", "-"),
+                Cell("number", e.value, extra_digits=x) if ok else Cell("text", "n/a"),
+                Cell("number", e.se, extra_digits=x) if ok else Cell("text", "-"),
+                Cell("interval", (e.low, e.high), extra_digits=x) if ok else Cell("text", "-"),
+                Cell("interval", (e.exact_low, e.exact_high), extra_digits=x)
+                if ok and e.exact_low is not None else Cell("text", "-"),
                 Cell("interval", v.band) if v and v.band else Cell("text", "-"),
                 Cell("text", share_status(v, r) if v else (
                     "" if r.steady_state else problem_label(r))),
@@ -446,7 +453,7 @@ def compact_table(findings: Findings) -> Table:
             cells.append(_interval(v.estimate) if v and r.steady_state else Cell("text", ""))
         if speed:
             lam = r.speed_estimate("lam")
-            cells.append(Cell("number", lam.value) if lam and r.steady_state
+            cells.append(Cell("number", lam.value, extra_digits=1) if lam and r.steady_state
                          else Cell("text", "-"))
         status = "; ".join(f"{v.name} {v.band_status}" for v in r.shares if v.band_status)
         if not r.steady_state:
