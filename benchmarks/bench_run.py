@@ -66,6 +66,21 @@ def main() -> None:
     findings = steadyfit.run(spec)
     t_write = _best(lambda: write_run(findings, out, command=["bench"]), max(1, args.repeat // 3))
 
+    from steadyfit.estimators import fit_ols
+    from steadyfit.pipeline import plan
+    from steadyfit.structural import minimum_distance, nonlinear_least_squares
+
+    cell = next(c for c in plan(spec).cells if c.structural)
+    d = cell.design
+    res = fit_ols(d.y, d.x_restricted, d.names_restricted, d.labels_restricted, "HC1")
+    unres = fit_ols(d.y, d.x_unrestricted, d.names_unrestricted, d.labels_unrestricted, "HC1")
+    start = d.form.parameters.forward.value(res.slopes()[0])
+    t_ols = _best(lambda: fit_ols(d.y, d.x_restricted, d.names_restricted,
+                                  d.labels_restricted, "HC1"), args.repeat)
+    t_nls = _best(lambda: nonlinear_least_squares(d, start, float(res.coef[0]), "HC1", 0.95),
+                  args.repeat)
+    t_md = _best(lambda: minimum_distance(d.form, unres, start, 0.95), args.repeat)
+
     from steadyfit.report.figures import all_figures
 
     def figure_baseline() -> None:
@@ -95,6 +110,11 @@ def main() -> None:
     print(f"baseline (read CSV + bare statsmodels fits, 3 samples x 4 fits): {t_base * 1e3:8.1f} ms")
     print(f"steadyfit.run (validate, samples, fits, tests, delta method):   {t_run * 1e3:8.1f} ms"
           f"   ratio {t_run / t_base:5.2f}")
+    print(f"restricted OLS fit (statsmodels, HC1), growth form:           {t_ols * 1e3:8.1f} ms")
+    print(f"nonlinear least squares, same equation:                       {t_nls * 1e3:8.1f} ms"
+          f"   ratio {t_nls / t_ols:5.2f}")
+    print(f"minimum distance, same equation:                              {t_md * 1e3:8.1f} ms"
+          f"   ratio {t_md / t_ols:5.2f}")
     print(f"figures: bare scatter + SVG save, same count:                {t_fig_base * 1e3:8.1f} ms")
     print(f"figures: steadyfit all_figures:                                {t_fig * 1e3:8.1f} ms"
           f"   ratio {t_fig / t_fig_base:5.2f}")
