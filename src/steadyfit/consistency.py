@@ -27,6 +27,7 @@ import numpy as np
 from .equations import get_form
 from .findings import ConsistencyCheck, EquationFindings, Settings
 from .inference import normal_estimate, z_test
+from .structural import numeric_jacobian
 
 
 def _pairs(results: tuple[EquationFindings, ...]
@@ -105,21 +106,14 @@ def _pick(params: Callable[[np.ndarray], dict[str, float]], name: str, lo: int, 
     return lambda t: params(t[lo:hi])[name]
 
 
+def _as_vector(fn: Callable[[np.ndarray], float]) -> Callable[[np.ndarray], np.ndarray]:
+    return lambda t: np.array([fn(t)])
+
+
 def _mean_ngd(r: EquationFindings) -> float:
     """Sample mean of n + g + delta (in levels) from the regressor ln(n+g+d)."""
     i = r.unrestricted.names.index("ln_ngd")
     return float(np.exp(r.observations.x[:, i]).mean())
-
-
-def _gradient(fn: Callable[[np.ndarray], float], x: np.ndarray) -> np.ndarray:
-    out = np.zeros(len(x))
-    for j in range(len(x)):
-        h = 1e-6 * max(1.0, abs(x[j]))
-        up, down = x.copy(), x.copy()
-        up[j] += h
-        down[j] -= h
-        out[j] = (fn(up) - fn(down)) / (2 * h)
-    return out
 
 
 def _compare(lv: EquationFindings, g: EquationFindings, name: str,
@@ -127,8 +121,11 @@ def _compare(lv: EquationFindings, g: EquationFindings, name: str,
              theta: np.ndarray, cov: np.ndarray, joint: bool, confidence: float
              ) -> ConsistencyCheck:
     estimates = []
-    for fn in (f_lv, f_g, lambda t: f_g(t) - f_lv(t)):
-        grad = _gradient(fn, theta)
+    def difference(t: np.ndarray) -> float:
+        return f_g(t) - f_lv(t)
+
+    for fn in (f_lv, f_g, difference):
+        grad = numeric_jacobian(_as_vector(fn), theta)[0]
         estimates.append(normal_estimate(name, fn(theta), float(np.sqrt(grad @ cov @ grad)),
                                          confidence))
     diff = estimates[2]

@@ -31,7 +31,7 @@ from .inference import normal_estimate
 _TOL = 1e-15  # tight: structural estimates are compared with the linear mapping to 1e-6
 
 
-def _jacobian(fn: Callable[[np.ndarray], np.ndarray], x: np.ndarray) -> np.ndarray:
+def numeric_jacobian(fn: Callable[[np.ndarray], np.ndarray], x: np.ndarray) -> np.ndarray:
     """Central differences, accurate to about 1e-10 for smooth maps of order one."""
     cols = []
     for j in range(len(x)):
@@ -77,7 +77,7 @@ def nonlinear_least_squares(design: Design, start: np.ndarray, const: float,
         raise EstimationError("cannot start nonlinear least squares: the starting values give "
                               "no finite fitted values", where)
     with np.errstate(all="ignore"):
-        res = optimize.least_squares(resid, x0, jac=lambda t: -_jacobian(fitted, t),
+        res = optimize.least_squares(resid, x0, jac=lambda t: -numeric_jacobian(fitted, t),
                                      method="trf", xtol=_TOL, ftol=_TOL, gtol=_TOL,
                                      max_nfev=max_evaluations)
     if res.status <= 0 or not np.all(np.isfinite(res.x)):
@@ -89,7 +89,7 @@ def nonlinear_least_squares(design: Design, start: np.ndarray, const: float,
     if problem is not None:
         raise EstimationError(f"nonlinear least squares ended where the model implies {problem}",
                               where)
-    g = _jacobian(fitted, theta)
+    g = numeric_jacobian(fitted, theta)
     e = resid(theta)
     n, k = g.shape
     bread = np.linalg.inv(g.T @ g)
@@ -154,12 +154,13 @@ def minimum_distance(form: ModelForm, unrestricted: Fit, start: np.ndarray,
         return linalg.solve_triangular(lower, b - implied, lower=True)
 
     with np.errstate(all="ignore"):
-        res = optimize.least_squares(whitened, start, jac=lambda t: _jacobian(whitened, t),
+        res = optimize.least_squares(whitened, start,
+                                     jac=lambda t: numeric_jacobian(whitened, t),
                                      method="trf", xtol=_TOL, ftol=_TOL, gtol=_TOL,
                                      max_nfev=2000)
     if res.status <= 0:
         raise EstimationError(f"minimum distance did not converge ({res.message})", where)
-    jac = _jacobian(whitened, res.x)
+    jac = numeric_jacobian(whitened, res.x)
     cov = np.linalg.inv(jac.T @ jac)
     stat = float(whitened(res.x) @ whitened(res.x))
     df = len(b) - len(res.x)

@@ -44,6 +44,18 @@ def _svg(fig) -> str:  # type: ignore[no-untyped-def]
     return text[text.index("<svg"):]
 
 
+def _net_of_others(x: np.ndarray, y: np.ndarray, j: int) -> tuple[np.ndarray, np.ndarray]:
+    """Column j of x and y, each minus its least-squares fit on the other columns."""
+    others = np.delete(x, j, axis=1)
+    proj = others @ np.linalg.lstsq(others, np.column_stack([y, x[:, j]]), rcond=None)[0]
+    return x[:, j] - proj[:, 1], y - proj[:, 0]
+
+
+def _finish(fig) -> str:  # type: ignore[no-untyped-def]
+    fig.tight_layout()
+    return _svg(fig)
+
+
 def _slug(text: str) -> str:
     return re.sub(r"[^A-Za-z0-9_-]+", "_", text).strip("_")
 
@@ -70,8 +82,7 @@ def fit_figure(r: EquationFindings, n_labels: int = 5) -> Figure:
         ax2.set_xlabel(f"fitted {r.dependent_label}")
         ax2.set_ylabel("residual (log points)")
         ax2.set_title("Residuals against fitted")
-        fig.tight_layout()
-        svg = _svg(fig)
+        svg = _finish(fig)
     return Figure(f"fit_{_slug(r.equation)}_{_slug(r.sample)}",
                   f"Fit: {r.column}",
                   f"Unrestricted regression, {r.nobs} economies; the {n_labels} economies with "
@@ -87,9 +98,7 @@ def partial_figure(r: EquationFindings) -> Figure:
     with plt.rc_context(_STYLE):
         fig, axes = plt.subplots(1, k, figsize=(3.0 * k, 3.0), squeeze=False)
         for j in range(1, k + 1):
-            others = np.delete(x, j, axis=1)
-            proj = others @ np.linalg.lstsq(others, np.column_stack([y, x[:, j]]), rcond=None)[0]
-            ey, ex = y - proj[:, 0], x[:, j] - proj[:, 1]
+            ex, ey = _net_of_others(x, y, j)
             ax = axes[0, j - 1]
             ax.scatter(ex, ey, s=12, facecolors="none", edgecolors="black", linewidths=0.7)
             grid = np.linspace(ex.min(), ex.max(), 2)
@@ -98,8 +107,7 @@ def partial_figure(r: EquationFindings) -> Figure:
             ax.set_xlabel(f"{label}, net of the others")
             ax.set_ylabel("dependent variable, net of the others")
             ax.set_title(f"slope {r.unrestricted.coef[j]:.3f}")
-        fig.tight_layout()
-        svg = _svg(fig)
+        svg = _finish(fig)
     return Figure(f"partial_{_slug(r.equation)}_{_slug(r.sample)}",
                   f"Partial regressions: {r.column}",
                   "Each panel: log income and one regressor, both after removing what the other "
@@ -117,9 +125,7 @@ def convergence_figure(r: EquationFindings) -> Figure | None:
     x, y = r.observations.x, r.observations.y
     panels = [("raw", x[:, j], y)]
     if x.shape[1] > 2:
-        others = np.delete(x, j, axis=1)
-        proj = others @ np.linalg.lstsq(others, np.column_stack([y, x[:, j]]), rcond=None)[0]
-        panels.append(("conditional", x[:, j] - proj[:, 1], y - proj[:, 0]))
+        panels.append(("conditional", *_net_of_others(x, y, j)))
     with plt.rc_context(_STYLE):
         fig, axes = plt.subplots(1, len(panels), figsize=(4.0 * len(panels), 3.4), squeeze=False)
         for ax, (kind, gx, gy) in zip(axes[0], panels, strict=True):
@@ -135,8 +141,7 @@ def convergence_figure(r: EquationFindings) -> Figure | None:
                 ax.set_xlabel("log initial income, net of the other regressors")
                 ax.set_ylabel("growth, net of the other regressors")
                 ax.set_title(f"Conditional: slope {slope:.3f}")
-        fig.tight_layout()
-        svg = _svg(fig)
+        svg = _finish(fig)
     return Figure(f"convergence_{_slug(r.equation)}_{_slug(r.sample)}",
                   f"Convergence: {r.column}",
                   "Growth over the span against initial income, with the least-squares line; "
@@ -177,8 +182,7 @@ def shares_figure(findings: Findings) -> Figure | None:
         ax.set_xlim(lo - 0.02, min(hi + 0.02, 2.0))
         ax.set_xlabel(f"implied share of output (point and {pct}% delta-method interval)")
         ax.set_title("Implied shares against their plausible bands (grey); dotted: share = 1")
-        fig.tight_layout()
-        svg = _svg(fig)
+        svg = _finish(fig)
     return Figure("implied_shares", "Implied shares and plausible bands",
                   "Grey: the plausible band of each share. Beyond the dotted line at 1 no "
                   "steady state exists.", svg)
