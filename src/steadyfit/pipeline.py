@@ -134,8 +134,9 @@ def _versions() -> dict[str, str]:
 
 
 def caveats(spec: Spec, table: EconomyTable) -> tuple[str, ...]:
+    """The plain statements every report carries about assumptions, data and sample."""
     b = spec.body
-    return (
+    out = [
         "The equations assume every economy is in or near its own steady state, with the same "
         "technology growth g and depreciation delta and a common production function; the "
         "investment and workforce-growth rates are treated as exogenous to income.",
@@ -145,9 +146,16 @@ def caveats(spec: Spec, table: EconomyTable) -> tuple[str, ...]:
         "economies; the estimates describe this vintage and these samples only.",
         "Implied shares use the delta method; in small samples its intervals can be poor, so "
         "compare the endpoint-mapped interval where one is shown.",
-        "Cross-country regressions describe associations across economies; they do not by "
-        "themselves say what a policy would do in any one of them.",
-    )
+    ]
+    if any(e.form == "growth" for e in b.equation):
+        out.append("Growth equations rest on a log-linear approximation around the steady "
+                   "state and one speed of convergence for every economy; initial income is "
+                   "treated as given. Intervals for lambda and the half-life come from the "
+                   "delta method and from mapping the endpoints of the initial-income "
+                   "coefficient's interval.")
+    out.append("Cross-country regressions describe associations across economies; they do not "
+               "by themselves say what a policy would do in any one of them.")
+    return tuple(out)
 
 
 def run(spec: Spec | str | Path) -> Findings:
