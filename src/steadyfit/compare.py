@@ -75,6 +75,22 @@ def _flat(d: dict[str, Any], prefix: str = "") -> dict[str, Any]:
     return out
 
 
+def _cells(record: dict[str, Any]) -> list[dict[str, Any]]:
+    """Results, plus each levels-versus-growth comparison as a cell of its own."""
+    cells = list(record.get("results", []))
+    pairs: dict[tuple[str, str], dict[str, Any]] = {}
+    for c in record.get("consistency", []):
+        key = (f"{c['levels_equation']} vs {c['growth_equation']}", c["sample"])
+        q = pairs.setdefault(key, {"equation": key[0], "sample": key[1], "quantities": {}})
+        name = c["quantity"]
+        q["quantities"].update({
+            f"{name}_from_levels": c["from_levels"]["value"],
+            f"{name}_from_growth": c["from_growth"]["value"],
+            f"{name}_difference": c["difference"]["value"],
+            f"{name}_difference_p": c["test"]["p"]})
+    return cells + list(pairs.values())
+
+
 def _differs(a: float | None, b: float | None, tol: float) -> bool:
     if a is None or b is None:
         return (a is None) != (b is None)
@@ -93,8 +109,8 @@ def compare_runs(a: str | Path, b: str | Path, tolerance: float = 1e-9) -> Compa
     pa, pb = rec_a.get("provenance", {}), rec_b.get("provenance", {})
     inputs = tuple((k, pa.get(k), pb.get(k)) for k in ("data_sha256", "data_rows")
                    if pa.get(k) != pb.get(k))
-    cells_a = {(r["equation"], r["sample"]): r for r in rec_a.get("results", [])}
-    cells_b = {(r["equation"], r["sample"]): r for r in rec_b.get("results", [])}
+    cells_a = {(r["equation"], r["sample"]): r for r in _cells(rec_a)}
+    cells_b = {(r["equation"], r["sample"]): r for r in _cells(rec_b)}
     only_a = tuple(f"{e} / {s}" for e, s in cells_a if (e, s) not in cells_b)
     only_b = tuple(f"{e} / {s}" for e, s in cells_b if (e, s) not in cells_a)
     economies = []
