@@ -113,3 +113,13 @@ def test_tables_render_in_notebooks(demo_findings):
     t = compact_table(demo_findings)
     assert t._repr_html_().startswith("<figure class='table'")
     assert str(t).startswith("Key results")
+
+
+@pytest.mark.parametrize("choice, expected", [("none", set()), ("key", {"implied_shares"})])
+def test_figure_choice(demo_dir, tmp_path, choice, expected):
+    spec = demo_dir / "demo.toml"
+    spec.write_text(spec.read_text() + f'\n[report]\nfigures = "{choice}"\n')
+    folder = write_run(steadyfit.run(spec), tmp_path)
+    stems = {p.stem for p in (folder / "figures").iterdir()}
+    assert {s for s in stems if not s.startswith("convergence_")} == expected
+    assert any(s.startswith("convergence_") for s in stems) == (choice == "key")

@@ -232,6 +232,7 @@ class Settings:
     max_evaluations: int = 2000
     digits: int = 3
     stars: bool = False
+    figures: str = "all"  # "all", "key" (share chart and convergence plots) or "none"
 
 
 @dataclass(frozen=True)

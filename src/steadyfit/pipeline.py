@@ -83,6 +83,7 @@ def settings_of(spec: Spec) -> Settings:
         max_evaluations=b.inference.max_evaluations,
         digits=b.report.digits,
         stars=b.report.stars,
+        figures=b.report.figures,
     )
 
 

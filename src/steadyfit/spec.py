@@ -25,6 +25,7 @@ from .quantities import quantity_names
 Unit = Literal["percent", "fraction"]
 Covariance = Literal["classical", "HC0", "HC1", "HC2", "HC3", "cluster"]
 NonPositive = Literal["error", "drop"]
+FigureChoice = Literal["all", "key", "none"]
 COVARIANCES: tuple[str, ...] = get_args(Covariance)
 RATE_VARIABLES = ("invest", "schooling", "workforce_growth")
 _NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_\-]*$")
@@ -144,6 +145,7 @@ class ReportSpec(_Record):
 
     digits: int = Field(3, ge=0, le=8)
     stars: bool = False
+    figures: FigureChoice = "all"
 
 
 class TargetSpec(_Record):

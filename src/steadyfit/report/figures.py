@@ -189,16 +189,24 @@ def shares_figure(findings: Findings) -> Figure | None:
 
 
 def all_figures(findings: Findings) -> tuple[Figure, ...]:
-    """The run's figures: the share chart first, then per equation and sample."""
+    """The run's figures: the share chart first, then per equation and sample.
+
+    ``settings.figures`` chooses: ``all``; ``key`` (the share chart and the
+    convergence plots); ``none``.
+    """
     import matplotlib
 
     matplotlib.use("Agg", force=False)
     out: list[Figure] = []
+    choice = findings.settings.figures
+    if choice == "none":
+        return ()
     chart = shares_figure(findings)
     if chart is not None:
         out.append(chart)
     for r in findings.results:
-        out += [fit_figure(r), partial_figure(r)]
+        if choice == "all":
+            out += [fit_figure(r), partial_figure(r)]
         conv = convergence_figure(r)
         if conv is not None:
             out.append(conv)

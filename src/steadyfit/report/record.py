@@ -116,7 +116,7 @@ def to_record(findings: Findings, run: dict[str, Any]) -> dict[str, Any]:
             "covariance": s.covariance, "cluster": s.cluster, "confidence": s.confidence,
             "bands": {k: list(v) for k, v in s.bands.items()}, "points": s.points,
             "non_positive": s.non_positive, "digits": s.digits, "stars": s.stars,
-            "max_evaluations": s.max_evaluations,
+            "max_evaluations": s.max_evaluations, "figures": s.figures,
         },
         "samples": [{"name": x.name, "filter": x.filter, "economies": x.n_selected}
                     for x in findings.samples],
