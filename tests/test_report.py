@@ -123,3 +123,11 @@ def test_figure_choice(demo_dir, tmp_path, choice, expected):
     stems = {p.stem for p in (folder / "figures").iterdir()}
     assert {s for s in stems if not s.startswith("convergence_")} == expected
     assert any(s.startswith("convergence_") for s in stems) == (choice == "key")
+
+
+def test_findings_as_a_data_frame(demo_findings):
+    frame = demo_findings.to_frame()
+    assert frame.loc[("with_schooling", "all"), "alpha"] == (
+        demo_findings.result("with_schooling", "all").share("alpha").estimate.value)
+    assert frame.loc[("convergence", "no_resource_exporters"), "lam"] > 0
+    assert len(frame) == len(demo_findings.results)

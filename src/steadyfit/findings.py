@@ -9,6 +9,7 @@ from dataclasses import dataclass, field
 from typing import Literal
 
 import numpy as np
+import pandas as pd
 
 from .data import Dropped
 from .estimators import Fit
@@ -269,6 +270,16 @@ class Findings:
             if r.equation == equation and r.sample == sample:
                 return r
         raise KeyError(f"no result for equation '{equation}' on sample '{sample}'")
+
+    def to_frame(self) -> pd.DataFrame:
+        """Every named quantity (see :mod:`steadyfit.quantities`), one row per equation and
+        sample, for notebooks and scripts."""
+        from .quantities import quantities
+
+        rows = {(r.equation, r.sample): quantities(r) for r in self.results}
+        frame = pd.DataFrame.from_dict(rows, orient="index")
+        frame.index = pd.MultiIndex.from_tuples(list(rows), names=["equation", "sample"])
+        return frame
 
     def __str__(self) -> str:
         from .report.text import render_text
