@@ -138,3 +138,26 @@ def test_repository_demo_spec_matches_the_shipped_one():
     diff = [(a, b) for a, b in zip(ours, shipped, strict=True) if a != b]
     assert diff == [('file = "../src/steadyfit/demo/demo_economies.csv"',
                      'file = "demo_economies.csv"')]
+
+
+def test_output_folder_that_cannot_be_made_exits_2(demo_dir, tmp_path):
+    blocker = tmp_path / "file"
+    blocker.write_text("not a folder")
+    proc = steadyfit("run", demo_dir / "demo.toml", "--out", blocker)
+    assert proc.returncode == 2 and "cannot create the output folder" in proc.stderr
+    assert blocker.read_text() == "not a folder"
+
+
+def test_numeric_looking_ids_keep_their_leading_zeros(tmp_path):
+    import pandas as pd
+
+    import steadyfit as sf
+    from steadyfit.demo import write_demo
+
+    spec = write_demo(tmp_path / "d")
+    csv = tmp_path / "d" / "demo_economies.csv"
+    d = pd.read_csv(csv)
+    d["economy"] = [f"{i:03d}" for i in range(len(d))]
+    d.to_csv(csv, index=False)
+    f = sf.run(spec)
+    assert "000" in f.result("physical_only", "all").economies

@@ -80,14 +80,15 @@ class Selection:
         return len(self.frame)
 
 
-def read_table(path: Path) -> pd.DataFrame:
-    """Read a CSV or Parquet file into a DataFrame."""
+def read_table(path: Path, id_column: str | None = None) -> pd.DataFrame:
+    """Read a CSV or Parquet file into a DataFrame (the id column of a CSV as text, so codes
+    such as '004' keep their leading zeros)."""
     if not path.exists():
         raise InputError(f"data file '{path}' does not exist", "data.file")
     suffix = path.suffix.lower()
     try:
         if suffix == ".csv":
-            return pd.read_csv(path)
+            return pd.read_csv(path, dtype={id_column: str} if id_column else None)
         if suffix in (".parquet", ".pq"):
             try:
                 return pd.read_parquet(path)
@@ -111,7 +112,7 @@ def load_data(spec: Spec) -> EconomyTable:
     """Read the spec's data table, check it, convert units and add canonical columns."""
     body = spec.body
     path = spec.data_path
-    raw = read_table(path)
+    raw = read_table(path, body.data.id)
     columns = [str(c) for c in raw.columns]
     raw.columns = columns
     if body.data.id not in raw.columns:

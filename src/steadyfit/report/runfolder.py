@@ -14,6 +14,7 @@ from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
 
+from ..errors import InputError
 from ..findings import Findings
 from .figures import all_figures
 from .html import render_html
@@ -67,7 +68,11 @@ def write_run(findings: Findings, out_root: str | Path = "reports",
         files[f"tables/{table.key}.tex"] = render_table_latex(table, s.digits, s.stars)
     for fig in figures:
         files[f"figures/{fig.key}.svg"] = fig.svg + "\n"
-    root.mkdir(parents=True, exist_ok=True)
+    try:
+        root.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise InputError(f"cannot create the output folder '{root}': {exc.strerror or exc}",
+                         "output folder") from None
     tmp = root / f".partial-{run_id}-{os.getpid()}"
     try:
         for sub in ("tables", "figures", "inputs"):
