@@ -29,7 +29,6 @@ LOG_COLUMNS = {
     "human_stock": "ln_h",
     "workforce_growth": "ln_ngd",
 }
-CANONICAL = (*LOG_COLUMNS.values(), "ln_growth")
 
 # Rates outside these bounds cannot be right in the declared unit.  The bounds
 # are common practice, no source: investment shares lie in (0, 1] as fractions,

@@ -7,13 +7,14 @@ means fitting again, never changing a record.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Literal
+from typing import Literal, get_args
 
 import numpy as np
 import pandas as pd
 from scipy import stats
 
 CovarianceName = Literal["classical", "HC0", "HC1", "HC2", "HC3", "cluster"]
+COVARIANCES: tuple[str, ...] = get_args(CovarianceName)
 
 
 @dataclass(frozen=True)
@@ -86,8 +87,7 @@ def fit_ols(y: np.ndarray, x: np.ndarray, names: tuple[str, ...], labels: tuple[
     elif covariance in ("HC0", "HC1", "HC2", "HC3"):
         res = model.fit(cov_type=covariance)
     else:
-        raise ValueError(f"unknown covariance '{covariance}'; valid: classical, HC0, HC1, HC2, "
-                         "HC3, cluster")
+        raise ValueError(f"unknown covariance '{covariance}'; valid: {', '.join(COVARIANCES)}")
     return Fit(
         names=names,
         labels=labels,

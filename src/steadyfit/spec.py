@@ -20,13 +20,12 @@ from pydantic import BaseModel, ConfigDict, Field, ValidationError, field_valida
 
 from . import equations
 from .errors import InputError, did_you_mean, one_of
+from .estimators import CovarianceName
 from .quantities import quantity_names
 
 Unit = Literal["percent", "fraction"]
-Covariance = Literal["classical", "HC0", "HC1", "HC2", "HC3", "cluster"]
 NonPositive = Literal["error", "drop"]
 FigureChoice = Literal["all", "key", "none"]
-COVARIANCES: tuple[str, ...] = get_args(Covariance)
 RATE_VARIABLES = ("invest", "schooling", "workforce_growth")
 _NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_\-]*$")
 
@@ -100,7 +99,7 @@ class EquationSpec(_Record):
 
 
 class InferenceSpec(_Record):
-    covariance: Covariance = "classical"
+    covariance: CovarianceName = "classical"
     cluster: str | None = None
     confidence: float = Field(0.95, gt=0.5, lt=1)
     max_evaluations: int = Field(2000, ge=1)
@@ -128,12 +127,6 @@ class PlausibleSpec(_Record):
         if not (0 <= v[0] < v[1] <= 1):
             raise ValueError(f"a band is [low, high] with 0 <= low < high <= 1, not {list(v)}")
         return v
-
-    def band(self, param: str) -> tuple[float, float] | None:
-        return getattr(self, param, None) if param in ("alpha", "beta") else None
-
-    def point(self, param: str) -> float | None:
-        return getattr(self, f"{param}_point", None) if param in ("alpha", "beta") else None
 
 
 class OutputSpec(_Record):

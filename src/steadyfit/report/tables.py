@@ -100,10 +100,6 @@ def format_cell(cell: Cell, digits: int = 3) -> tuple[str, str | None]:
     return str(v), se
 
 
-def _columns(findings: Findings) -> tuple[tuple[str, ...], ...]:
-    return tuple((r.equation, r.sample) for r in findings.results)
-
-
 def _union_labels(per_column: list[list[str]]) -> list[str]:
     out: list[str] = []
     for labels in per_column:
