@@ -218,3 +218,18 @@ def test_growth_results_reach_every_output(demo_dir, tmp_path):
     assert {"lam", "half_life", "nls_alpha", "md_overid"} <= set(res["quantities"])
     assert res["nonlinear_least_squares"]["evaluations"] >= 1
     assert {c["quantity"] for c in record["consistency"]} == {"lam", "alpha", "beta"}
+
+
+@pytest.mark.parametrize("covariance", ["HC0", "HC2", "HC3", "cluster"])
+def test_robust_nls_errors_equal_the_robust_delta_method(demo_dir, covariance):
+    """NLS is a reparameterisation of the restricted regression, so its sandwich standard
+    errors equal the delta method applied to statsmodels' robust covariance of that fit."""
+    spec = demo_dir / "demo.toml"
+    new = f'covariance = "{covariance}"' + ('\ncluster = "region"' if covariance == "cluster"
+                                            else "")
+    spec.write_text(spec.read_text().replace('covariance = "HC1"', new))
+    r = steadyfit.run(spec).result("convergence", "no_resource_exporters")
+    mapped = {v.estimate.name: v.estimate for v in r.shares} | {e.name: e for e in r.speed}
+    assert r.nonlinear.robust_covariance == covariance
+    for e in r.nonlinear.robust:
+        assert e.se == pytest.approx(mapped[e.name].se, rel=1e-4), e.name
