@@ -12,7 +12,7 @@ import numpy as np
 import pandas as pd
 
 from .data import Dropped
-from .estimators import Fit
+from .estimators import CovarianceName, Fit
 
 BandStatus = Literal["inside", "overlaps", "outside"]
 
@@ -224,7 +224,7 @@ class Settings:
 
     g_plus_delta: float
     span_years: float | None
-    covariance: str
+    covariance: CovarianceName
     cluster: str | None
     confidence: float
     bands: dict[str, tuple[float, float]]

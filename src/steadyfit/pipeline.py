@@ -91,9 +91,9 @@ def estimate_cell(cell: PlannedCell, settings: Settings) -> EquationFindings:
     """Fit one equation on one sample, unrestricted and restricted, and judge the results."""
     d = cell.design
     unres = fit_ols(d.y, d.x_unrestricted, d.names_unrestricted, d.labels_unrestricted,
-                    settings.covariance, d.clusters)  # type: ignore[arg-type]
+                    settings.covariance, d.clusters)
     res = fit_ols(d.y, d.x_restricted, d.names_restricted, d.labels_restricted,
-                  settings.covariance, d.clusters)  # type: ignore[arg-type]
+                  settings.covariance, d.clusters)
     f_test, wald = restriction_tests(d, unres, res)
     shares, speed, problem = implied_parameters(d.form, res, settings.confidence,
                                                 settings.bands, settings.points)

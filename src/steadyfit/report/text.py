@@ -43,7 +43,7 @@ def render_table_text(table: Table, digits: int = 3, width: int = 100) -> str:
 
 def render_text(findings: Findings, tables: tuple[Table, ...] | None = None) -> str:
     """The compact terminal view: warnings, notes and the key-results table."""
-    from .tables import compact_table
+    from .tables import compact_table, consistency_lines
 
     parts = [findings.title]
     for w in findings.warnings:
@@ -53,4 +53,12 @@ def render_text(findings: Findings, tables: tuple[Table, ...] | None = None) -> 
             parts += textwrap.wrap(f"note ({r.column}): {note}", 100, subsequent_indent="  ")
     for table in tables or (compact_table(findings),):
         parts += ["", render_table_text(table, findings.settings.digits)]
+    lines = consistency_lines(findings)
+    if lines:
+        parts += ["", "Levels against growth form:"]
+        for line in lines:
+            parts += textwrap.wrap(line, 100, initial_indent="- ", subsequent_indent="  ")
+    if findings.scorecard:
+        met = sum(t.met for t in findings.scorecard)
+        parts += ["", f"Replication targets: {met} of {len(findings.scorecard)} met."]
     return "\n".join(parts)
