@@ -40,6 +40,8 @@ def tex_label(text: str) -> str:
 
 
 def _number(text: str) -> str:
+    if text == "-":  # a placeholder, not a minus sign
+        return "--"
     return text.replace("-", "$-$") if re.fullmatch(r"[-\d.\[\], ()<]+", text) else tex_escape(
         text)
 
