@@ -115,10 +115,13 @@ def _check(spec_path: Path) -> int:
     print("\nwould estimate:")
     for c in p.cells:
         d = c.design
+        extra = " (+ nonlinear least squares)" if c.structural else ""
         print(f"  {d.equation} [{d.form.key}] on {d.sample}: {d.nobs} economies, "
-              f"{len(c.selection.dropped)} dropped")
+              f"{len(c.selection.dropped)} dropped{extra}")
         for drop in c.selection.dropped:
             print(f"      - {drop.economy}: {drop.reason}")
+    if p.spec.body.target:
+        print(f"\n{len(p.spec.body.target)} replication targets will be checked")
     return 0
 
 
