@@ -91,9 +91,9 @@ def read_table(path: Path, id_column: str | None = None) -> pd.DataFrame:
         if suffix in (".parquet", ".pq"):
             try:
                 return pd.read_parquet(path)
-            except ImportError:
-                raise InputError("reading Parquet needs pyarrow: pip install 'steadyfit[parquet]'",
-                                 "data.file") from None
+            except ImportError as exc:
+                raise InputError(f"reading Parquet needs a working pyarrow ({exc}); "
+                                 "pip install 'steadyfit[parquet]'", "data.file") from None
     except (pd.errors.ParserError, pd.errors.EmptyDataError, UnicodeDecodeError, OSError) as exc:
         raise InputError(f"cannot read '{path.name}': {exc}", "data.file") from None
     raise InputError(f"'{path.name}' is neither .csv nor .parquet", "data.file")
