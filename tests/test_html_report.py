@@ -113,3 +113,16 @@ def test_renders_in_a_headless_browser(evil_run, tmp_path):
     dark = sum(hist[:200]) / sum(hist)
     assert dark > 0.01, f"only {dark:.2%} of the page is ink"
     assert sum(1 for n in hist if n) > 20
+
+
+@pytest.mark.skipif(CHROMIUM is None, reason="chromium is not installed (.ci/run installs it)")
+def test_prints_to_pdf(evil_run, tmp_path):
+    pdf = tmp_path / "report.pdf"
+    subprocess.run(
+        [CHROMIUM, "--headless", "--no-sandbox", "--disable-gpu", "--no-first-run",
+         "--disable-background-networking", "--disable-component-update", "--disable-sync",
+         f"--user-data-dir={tmp_path / 'profile'}", "--no-pdf-header-footer",
+         f"--print-to-pdf={pdf}", (evil_run / "report.html").as_uri()],
+        capture_output=True, text=True, timeout=120)
+    assert pdf.exists() and pdf.read_bytes()[:5] == b"%PDF-"
+    assert pdf.read_bytes().count(b"/Type /Page") >= 3  # several pages, not one long one
