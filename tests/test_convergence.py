@@ -233,3 +233,22 @@ def test_robust_nls_errors_equal_the_robust_delta_method(demo_dir, covariance):
     assert r.nonlinear.robust_covariance == covariance
     for e in r.nonlinear.robust:
         assert e.se == pytest.approx(mapped[e.name].se, rel=1e-4), e.name
+
+
+def test_consistency_without_shared_economies_says_independent(demo_dir):
+    """When the growth sample loses an economy (no initial income), the two fits no longer
+    share their economies: the comparison treats them as independent and says so."""
+    csv = demo_dir / "demo_economies.csv"
+    d = pd.read_csv(csv)
+    first = d.index[d.resource_exporter == 0][0]
+    d.loc[first, "output_per_worker_start"] = float("nan")
+    d.to_csv(csv, index=False)
+    f = steadyfit.run(demo_dir / "demo.toml")
+    g = f.result("convergence", "no_resource_exporters")
+    assert g.nobs == 79 and any("income_start" in x.reason for x in g.dropped)
+    assert f.consistency and not any(c.joint_covariance for c in f.consistency)
+    lv = f.result("with_schooling", "no_resource_exporters")
+    lam = next(c for c in f.consistency if c.quantity == "lam")
+    var_sum = lam.from_levels.se**2 + lam.from_growth.se**2
+    assert lam.difference.se == pytest.approx(math.sqrt(var_sum), rel=1e-6)
+    assert lv.nobs == 80
