@@ -287,6 +287,6 @@ class Findings:
         return render_text(self)
 
     def _repr_html_(self) -> str:
-        from .report.markdown import render_html_fragment
+        from .report.html import render_html_fragment
 
         return render_html_fragment(self)

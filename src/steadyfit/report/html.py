@@ -18,6 +18,7 @@ from .tables import (
     format_p,
     scorecard_table,
     share_status,
+    shares_table,
     verdict_lines,
 )
 
@@ -105,6 +106,15 @@ def _verdict(r: EquationFindings, level: float, digits: int) -> Verdict:
                    format_p(f.pvalue) if f else "", format_p(w.pvalue) if w else "",
                    r.problem, tuple(lines),
                    r.notes)
+
+
+def render_html_fragment(findings: Findings) -> str:
+    """A notebook view: verdicts and the key tables as HTML (no page around them)."""
+    items = "".join(f"<li>{html.escape(v)}</li>" for v in verdict_lines(findings))
+    digits = findings.settings.digits
+    tables = "".join(render_table_html(t, digits) for t in (compact_table(findings),
+                                                           shares_table(findings)))
+    return f"<div><h4>{html.escape(findings.title)}</h4><ul>{items}</ul>{tables}</div>"
 
 
 def _environment() -> Any:

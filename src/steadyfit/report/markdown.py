@@ -1,8 +1,7 @@
-"""Markdown rendering: summary.md of a run folder, and an HTML fragment for notebooks."""
+"""Markdown rendering: summary.md of a run folder and tables/*.md."""
 
 from __future__ import annotations
 
-import html
 import re
 
 from ..findings import Findings
@@ -58,14 +57,3 @@ def render_markdown(findings: Findings, run_id: str | None = None) -> str:
             f"- data: `{p.data_path}` (SHA-256 `{p.data_sha256}`, {p.data_rows} rows)",
             "- versions: " + ", ".join(f"{k} {v}" for k, v in p.versions.items()), ""]
     return "\n".join(out)
-
-
-def render_html_fragment(findings: Findings) -> str:
-    """A notebook view: verdicts and the key tables as HTML."""
-    from .html import render_table_html
-    from .tables import coefficient_table, shares_table
-
-    items = "".join(f"<li>{html.escape(v)}</li>" for v in verdict_lines(findings))
-    tables = "".join(render_table_html(t) for t in (shares_table(findings),
-                                                   coefficient_table(findings, False)))
-    return f"<div><h4>{html.escape(findings.title)}</h4><ul>{items}</ul>{tables}</div>"
