@@ -252,3 +252,23 @@ def test_consistency_without_shared_economies_says_independent(demo_dir):
     var_sum = lam.from_levels.se**2 + lam.from_growth.se**2
     assert lam.difference.se == pytest.approx(math.sqrt(var_sum), rel=1e-6)
     assert lv.nobs == 80
+
+
+@pytest.mark.parametrize("capital", ['["physical"]', '["physical", "human_rate"]',
+                                     '["physical", "human_stock"]'])
+def test_structural_levels_forms_match_their_mapping(demo_dir, capital):
+    """Nonlinear least squares works for the levels forms too (alpha, beta only)."""
+    spec = demo_dir / "demo.toml"
+    spec.write_text(spec.read_text() + f'''
+[[equation]]
+name = "direct"
+capital = {capital}
+samples = ["no_resource_exporters"]
+structural = true
+''')
+    r = steadyfit.run(spec).result("direct", "no_resource_exporters")
+    for e in r.nonlinear.estimates:
+        assert e.value == pytest.approx(r.share(e.name).estimate.value, abs=1e-6)
+        assert e.se == pytest.approx(r.share(e.name).estimate.se, rel=0.2)  # HC1 vs classical
+    for e in r.nonlinear.robust:
+        assert e.se == pytest.approx(r.share(e.name).estimate.se, rel=1e-4)
