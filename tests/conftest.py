@@ -47,6 +47,16 @@ def demo_dir(tmp_path) -> Path:
     return tmp_path / "demo"
 
 
+def simulated_data_section(start: bool = False) -> str:
+    """The [data] tables for the simulated frames of the tests (columns y, y0, sk, sh, n as
+    fractions, ids in 'economy', file sim.csv)."""
+    return (
+        '[data]\nfile = "sim.csv"\nid = "economy"\n[data.columns]\nincome = "y"\n'
+        + ('income_start = "y0"\n' if start else "")
+        + 'invest = "sk"\nschooling = "sh"\nworkforce_growth = "n"\n[data.units]\n'
+        'invest = "fraction"\nschooling = "fraction"\nworkforce_growth = "fraction"\n')
+
+
 def write_spec(folder: Path, text: str, name: str = "spec.toml") -> Path:
     path = folder / name
     path.write_text(text, encoding="utf-8")

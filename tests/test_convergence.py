@@ -11,7 +11,7 @@ import pandas as pd
 import pytest
 
 import steadyfit
-from conftest import write_spec
+from conftest import simulated_data_section, write_spec
 from steadyfit.calibrate import convergence_rate, half_life, income_ratio, required_share
 from steadyfit.errors import EstimationError, InputError
 
@@ -128,20 +128,7 @@ def _simulate_growth(rng, n, a, b, span, noise):
                          "y0": np.exp(ln_y0), "sk": sk, "sh": sh, "n": growth}), lam
 
 
-GROWTH_SPEC = """
-[data]
-file = "sim.csv"
-id = "economy"
-[data.columns]
-income = "y"
-income_start = "y0"
-invest = "sk"
-schooling = "sh"
-workforce_growth = "n"
-[data.units]
-invest = "fraction"
-schooling = "fraction"
-workforce_growth = "fraction"
+GROWTH_SPEC = simulated_data_section(start=True) + """
 [assumptions]
 span_years = 25
 [[equation]]

@@ -7,22 +7,10 @@ import pandas as pd
 import pytest
 
 import steadyfit
-from conftest import write_spec
+from conftest import simulated_data_section, write_spec
 from steadyfit.demo import TRUE_ALPHA, TRUE_BETA
 
-SPEC = """
-[data]
-file = "sim.csv"
-id = "economy"
-[data.columns]
-income = "y"
-invest = "sk"
-schooling = "sh"
-workforce_growth = "n"
-[data.units]
-invest = "fraction"
-schooling = "fraction"
-workforce_growth = "fraction"
+SPEC = simulated_data_section() + """
 [[equation]]
 name = "aug"
 capital = ["physical", "human_rate"]
