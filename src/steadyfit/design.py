@@ -13,6 +13,11 @@ from .errors import EstimationError
 CONSTANT = "const"
 
 
+def cell_name(equation: str, sample: str) -> str:
+    """How messages name one equation on one sample."""
+    return f"equation '{equation}' on sample '{sample}'"
+
+
 @dataclass(frozen=True)
 class Design:
     """Dependent variable and both regressor sets for one equation on one sample.
@@ -55,6 +60,10 @@ class Design:
     def nobs(self) -> int:
         return len(self.y)
 
+    @property
+    def where(self) -> str:
+        return cell_name(self.equation, self.sample)
+
 
 def _matrix(frame_values: dict[str, np.ndarray], regs: tuple[Regressor, ...], n: int) -> np.ndarray:
     cols = [np.ones(n)]
@@ -71,7 +80,7 @@ def build_design(selection: Selection, form: ModelForm, equation: str) -> Design
     frame = selection.frame
     n = len(frame)
     values = {c: frame[c].to_numpy(dtype=float) for c in frame.columns if not c.startswith("_")}
-    where = f"equation '{equation}' on sample '{selection.sample}'"
+    where = cell_name(equation, selection.sample)
     k = 1 + len(form.unrestricted)
     if n < k + 2:
         raise EstimationError(

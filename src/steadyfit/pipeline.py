@@ -99,17 +99,16 @@ def estimate_cell(cell: PlannedCell, settings: Settings) -> EquationFindings:
                                                 settings.bands, settings.points)
     un_shares, cross = unrestricted_shares(d.form, unres, settings.confidence)
     notes = []
-    start = d.form.parameters.forward.value(res.slopes()[0])
     md = nls = None
-    where = f"equation '{d.equation}' on sample '{d.sample}'"
     if problem is not None:
         notes.append(f"{problem[0].upper()}{problem[1:]}; the implied parameters are not "
                      "ordinary numbers.")
         if cell.structural:
             raise EstimationError(f"cannot start nonlinear least squares: the linear fit "
-                                  f"implies {problem}", where)
+                                  f"implies {problem}", d.where)
     else:
-        md = minimum_distance(d.form, unres, start, settings.confidence, where)
+        start = d.form.parameters.forward.value(res.slopes()[0])
+        md = minimum_distance(d.form, unres, start, settings.confidence, d.where)
         if cell.structural:
             nls = nonlinear_least_squares(d, start, float(res.coef[0]), settings.covariance,
                                           settings.confidence, settings.max_evaluations)

@@ -43,10 +43,6 @@ def numeric_jacobian(fn: Callable[[np.ndarray], np.ndarray], x: np.ndarray) -> n
     return np.column_stack(cols)
 
 
-def _where(design: Design) -> str:
-    return f"equation '{design.equation}' on sample '{design.sample}'"
-
-
 def nonlinear_least_squares(design: Design, start: np.ndarray, const: float,
                             covariance: str, confidence: float,
                             max_evaluations: int = 2000) -> NonlinearFit:
@@ -62,7 +58,7 @@ def nonlinear_least_squares(design: Design, start: np.ndarray, const: float,
         The run's covariance: ``classical`` also reports HC1 as the robust one.
     """
     form = design.form
-    where = _where(design)
+    where = design.where
     x = design.x_restricted[:, 1:]
     y = design.y
 
