@@ -116,7 +116,10 @@ def test_compare_lists_what_g_plus_delta_moves_and_nothing_else(two_runs):
     ra, rb = (json.loads((p / "results.json").read_text()) for p in (a, b))
     real = {(x["equation"], x["sample"], k)
             for x, y in zip(ra["results"], rb["results"], strict=True)
-            for k in x["quantities"] if abs(x["quantities"][k] - y["quantities"][k]) > 1e-9}
+            for k in x["quantities"]
+            if (x["quantities"][k] is None) != (y["quantities"][k] is None)
+            or (x["quantities"][k] is not None
+                and abs(x["quantities"][k] - y["quantities"][k]) > 1e-9)}
     assert {q for q in changed if " vs " not in q[0]} == real
 
 

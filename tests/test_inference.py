@@ -77,7 +77,7 @@ def test_band_status():
 
 
 def test_point_test_is_a_two_sided_z_test():
-    est = normal_estimate("alpha", 0.6, 0.02, 0.95)
+    est = normal_estimate("alpha", 0.6, 0.02**2, 0.95)  # the variance
     t = point_test(est, 1 / 3)
     assert t.statistic == pytest.approx((0.6 - 1 / 3) / 0.02)
     assert t.pvalue < 1e-30

@@ -13,8 +13,11 @@ the economies are identical the joint covariance of the two restricted
 coefficient vectors is estimated from both fits' scores (the cross term
 ``(X1'X1)^-1 X1' diag(e1 e2) X2 (X2'X2)^-1``; with classical covariance the
 homoskedastic form ``s12 (X1'X1)^-1 X1'X2 (X2'X2)^-1``, ``s12 = e1'e2/n``).
-When the economies differ, the two are treated as independent and the check
-says so.
+With cluster-robust covariance the cross term sums the two fits' scores within
+clusters, so the joint matrix is the cluster-robust covariance of the stacked
+fits.  When the economies differ, the two are treated as independent and the
+check says so.  A joint covariance that is singular (from fewer clusters than
+the two fits have coefficients, say) gives no standard error and no test.
 """
 
 from __future__ import annotations
@@ -25,8 +28,9 @@ from collections.abc import Callable
 import numpy as np
 
 from .equations import get_form
+from .estimators import covariance_problem
 from .findings import ConsistencyCheck, EquationFindings, Settings
-from .inference import normal_estimate, z_test
+from .inference import normal_estimate, z_test_of
 from .structural import numeric_jacobian
 
 
@@ -43,15 +47,37 @@ def _pairs(results: tuple[EquationFindings, ...]
     return out
 
 
+def _scaled_residuals(r: EquationFindings, covariance: str) -> np.ndarray:
+    """Residuals scaled so that ``X' diag(u u) X`` is the middle of the fit's own sandwich."""
+    x = r.observations.x_restricted
+    e = r.restricted.resid
+    n, k = x.shape
+    if covariance in ("HC0", "cluster"):
+        return e
+    if covariance == "HC1":
+        return e * math.sqrt(n / (n - k))
+    lever = np.einsum("ij,jk,ik->i", x, np.linalg.inv(x.T @ x), x)
+    return e / np.sqrt(1 - lever) if covariance == "HC2" else e / (1 - lever)
+
+
 def _cross_cov(a: EquationFindings, b: EquationFindings, covariance: str) -> np.ndarray:
     xa, xb = a.observations.x_restricted, b.observations.x_restricted
-    ea, eb = a.restricted.resid, b.restricted.resid
     ia, ib = np.linalg.inv(xa.T @ xa), np.linalg.inv(xb.T @ xb)
     if covariance == "classical":
-        middle = (ea @ eb / len(ea)) * (xa.T @ xb)
-    else:
-        middle = (xa.T * (ea * eb)) @ xb
-    return ia @ middle @ ib
+        ea, eb = a.restricted.resid, b.restricted.resid
+        return ia @ ((ea @ eb / len(ea)) * (xa.T @ xb)) @ ib
+    ua, ub = _scaled_residuals(a, covariance), _scaled_residuals(b, covariance)
+    if covariance == "cluster":
+        labels = np.asarray(a.observations.clusters).astype(str)
+        groups = np.unique(labels)
+        sa = np.array([xa[labels == g].T @ ua[labels == g] for g in groups])
+        sb = np.array([xb[labels == g].T @ ub[labels == g] for g in groups])
+        n, m = len(ua), len(groups)
+        # the finite-sample factors of the two blocks, G/(G-1) (n-1)/(n-k), as geometric mean
+        fa = m / (m - 1) * (n - 1) / (n - xa.shape[1])
+        fb = m / (m - 1) * (n - 1) / (n - xb.shape[1])
+        return math.sqrt(fa * fb) * ia @ (sa.T @ sb) @ ib
+    return ia @ ((xa.T * (ua * ub)) @ xb) @ ib
 
 
 def consistency_checks(results: tuple[EquationFindings, ...],
@@ -71,6 +97,13 @@ def _checks_for_pair(lv: EquationFindings, g: EquationFindings, span: float,
     joint = lv.economies == g.economies
     cross = _cross_cov(lv, g, settings.covariance) if joint else np.zeros((len(ca), len(cb)))
     cov = np.block([[lv.restricted.cov, cross], [cross.T, g.restricted.cov]])
+    clustered = settings.covariance == "cluster" and lv.observations.clusters is not None
+    n_clusters = (len(np.unique(np.asarray(lv.observations.clusters).astype(str)))
+                  if clustered else None)
+    reason = (covariance_problem(cov, n_clusters if joint else None) if joint else
+              lv.restricted.cov_problem or g.restricted.cov_problem)
+    if reason is not None:
+        reason = f"the joint covariance of the two fits is unusable: {reason}"
     theta = np.concatenate([ca, cb])
     na = len(ca)
     lv_map, g_map = _parameters(lv, span), _parameters(g, span)
@@ -89,7 +122,8 @@ def _checks_for_pair(lv: EquationFindings, g: EquationFindings, span: float,
         if name in lv_map(ca[1:]) and name in g_map(cb[1:]):
             quantities.append((name, _pick(lv_map, name, 1, na),
                                _pick(g_map, name, na + 1, len(theta))))
-    return [_compare(lv, g, name, f_lv, f_g, theta, cov, joint, settings.confidence)
+    return [_compare(lv, g, name, f_lv, f_g, theta, cov, joint, settings.confidence, reason,
+                     n_clusters)
             for name, f_lv, f_g in quantities]
 
 
@@ -118,20 +152,24 @@ def _mean_ngd(r: EquationFindings) -> float:
 
 def _compare(lv: EquationFindings, g: EquationFindings, name: str,
              f_lv: Callable[[np.ndarray], float], f_g: Callable[[np.ndarray], float],
-             theta: np.ndarray, cov: np.ndarray, joint: bool, confidence: float
-             ) -> ConsistencyCheck:
+             theta: np.ndarray, cov: np.ndarray, joint: bool, confidence: float,
+             reason: str | None, n_clusters: int | None) -> ConsistencyCheck:
     estimates = []
+
     def difference(t: np.ndarray) -> float:
         return f_g(t) - f_lv(t)
 
-    for fn in (f_lv, f_g, difference):
+    na = len(lv.restricted.coef)
+    blocks = (slice(0, na), slice(na, len(theta)), slice(0, len(theta)))
+    for fn, block in zip((f_lv, f_g, difference), blocks, strict=True):
         grad = numeric_jacobian(_as_vector(fn), theta)[0]
-        estimates.append(normal_estimate(name, fn(theta), float(np.sqrt(grad @ cov @ grad)),
-                                         confidence))
-    diff = estimates[2]
-    z = diff.value / diff.se if diff.se > 0 else math.inf
+        # each form's own estimate only needs its own fit's covariance
+        own = reason if block.stop - block.start == len(theta) else (
+            lv.restricted.cov_problem if block.start == 0 else g.restricted.cov_problem)
+        estimates.append(normal_estimate(name, fn(theta), float(grad @ cov @ grad), confidence,
+                                         reason=own))
     what = "speed of convergence" if name == "lam" else name
-    test = z_test(f"z test that both forms give the same {what}", z,
-                  f"{what} from the growth form = {what} from the levels form")
+    test = z_test_of(estimates[2], 0.0, f"z test that both forms give the same {what}",
+                     f"{what} from the growth form = {what} from the levels form")
     return ConsistencyCheck(lv.sample, lv.equation, g.equation, name, estimates[0],
-                            estimates[1], diff, test, joint)
+                            estimates[1], estimates[2], test, joint, n_clusters)

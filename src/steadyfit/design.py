@@ -95,10 +95,23 @@ def build_design(selection: Selection, form: ModelForm, equation: str) -> Design
     clusters = None
     if "_cluster" in frame.columns:
         clusters = frame["_cluster"].to_numpy()
-        if len(np.unique(clusters.astype(str))) < 2:
-            raise EstimationError("cluster-robust covariance needs at least two clusters", where)
+        _check_clusters(clusters, form, where)
     return Design(equation, selection.sample, form, selection.economies,
                   values[form.dependent], x_u, x_r, clusters)
+
+
+def _check_clusters(clusters: np.ndarray, form: ModelForm, where: str) -> None:
+    """Refuse cluster-robust inference with fewer clusters than the parameters estimated."""
+    count = len(np.unique(clusters.astype(str)))
+    params = form.parameters.names
+    need = max(2, len(params))
+    if count < need:
+        what = (f"the {len(params)} parameters it estimates ({', '.join(params)})"
+                if len(params) >= 2 else "cluster-robust covariance")
+        raise EstimationError(
+            f"{where} has {count} cluster{'s' if count != 1 else ''}, fewer than {need} needed "
+            f"for {what}; cluster by a column with more groups, or choose covariance = "
+            "\"HC1\"", "inference.cluster")
 
 
 def _check_rank(x: np.ndarray, labels: tuple[str, ...], where: str) -> None:

@@ -277,9 +277,13 @@ def _problem(p: int | None, shares_of: VectorFn, domain: Callable[[Vector], floa
             if c[p] <= -1:
                 return ("the coefficient on initial income is -1 or below: the speed of "
                         "convergence is not defined")
-        if domain(c) <= 0 or shares_of(c).sum() >= 1:
+        if domain(c) <= 0:
             return ("no steady state: the estimates imply non-diminishing returns to the "
-                    "accumulable factors (shares summing to 1 or more)")
+                    "accumulable factors (the share formula's denominator is not positive)")
+        total = float(shares_of(c).sum())
+        if total >= 1:
+            return ("no steady state: the estimates imply non-diminishing returns to the "
+                    f"accumulable factors (shares summing to {total:.3g}, 1 or more)")
         return None
 
     return problem

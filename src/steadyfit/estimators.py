@@ -40,6 +40,8 @@ class Fit:
     use_t: bool
     fitted: np.ndarray
     resid: np.ndarray
+    n_clusters: int | None = None
+    cov_problem: str | None = None  # why the covariance cannot support tests (singular ...)
 
     @property
     def se(self) -> np.ndarray:
@@ -70,29 +72,56 @@ class Fit:
         return self.coef[1:], self.cov[1:, 1:]
 
 
+def covariance_problem(cov: np.ndarray, n_clusters: int | None = None) -> str | None:
+    """Why ``cov`` cannot serve for tests and derived standard errors, or None.
+
+    A cluster-robust covariance from G clusters has rank at most G - 1 (the
+    scores sum to zero within the sample), so with G no larger than the number
+    of coefficients it is singular by construction; otherwise the correlation
+    matrix is checked for non-finite entries and a (numerically) zero eigenvalue.
+    """
+    k = cov.shape[0]
+    if n_clusters is not None and n_clusters <= k:
+        return (f"the cluster-robust covariance from {n_clusters} clusters has rank at most "
+                f"{n_clusters - 1}, below the {k} coefficients it must cover (singular)")
+    if not np.all(np.isfinite(cov)):
+        return "the covariance of the coefficients is not finite"
+    var = np.diag(cov)
+    if np.any(var <= 0):
+        return "a coefficient has a variance of zero or less"
+    scale = np.sqrt(var)
+    eig = np.linalg.eigvalsh(cov / np.outer(scale, scale))
+    if eig.min() <= 1e-10 * max(eig.max(), 1.0):
+        return "the covariance of the coefficients is singular"
+    return None
+
+
 def fit_ols(y: np.ndarray, x: np.ndarray, names: tuple[str, ...], labels: tuple[str, ...],
             covariance: CovarianceName = "classical",
             clusters: np.ndarray | None = None) -> Fit:
     """Ordinary least squares with the chosen covariance (statsmodels)."""
-    import statsmodels.api as sm
+    from statsmodels.regression.linear_model import OLS
 
-    model = sm.OLS(y, x)
+    model = OLS(y, x)
+    n_clusters = None
     if covariance == "classical":
         res = model.fit()
     elif covariance == "cluster":
         if clusters is None:
             raise ValueError("cluster covariance needs cluster labels")
         groups = pd.factorize(pd.Series(clusters).astype(str))[0]
+        n_clusters = int(groups.max()) + 1
         res = model.fit(cov_type="cluster", cov_kwds={"groups": groups})
     elif covariance in ("HC0", "HC1", "HC2", "HC3"):
         res = model.fit(cov_type=covariance)
     else:
         raise ValueError(f"unknown covariance '{covariance}'; valid: {', '.join(COVARIANCES)}")
+    cov = np.asarray(res.cov_params(), dtype=float)
     return Fit(
         names=names,
         labels=labels,
         coef=np.asarray(res.params, dtype=float),
-        cov=np.asarray(res.cov_params(), dtype=float),
+        cov=cov,
         nobs=int(res.nobs),
         df_resid=float(res.df_resid),
         rsquared=float(res.rsquared),
@@ -103,4 +132,6 @@ def fit_ols(y: np.ndarray, x: np.ndarray, names: tuple[str, ...], labels: tuple[
         use_t=bool(res.use_t),
         fitted=np.asarray(res.fittedvalues, dtype=float),
         resid=np.asarray(res.resid, dtype=float),
+        n_clusters=n_clusters,
+        cov_problem=covariance_problem(cov, n_clusters),
     )

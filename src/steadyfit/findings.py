@@ -5,6 +5,7 @@ Renderers read these and nothing else.  Every record is a frozen dataclass.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 from typing import Literal
 
@@ -19,7 +20,12 @@ BandStatus = Literal["inside", "overlaps", "outside"]
 
 @dataclass(frozen=True)
 class TestResult:
-    """One hypothesis test: statistic, p-value, degrees of freedom and the null."""
+    """One hypothesis test: statistic, p-value, degrees of freedom and the null.
+
+    ``reason`` says why the test could not be computed (a singular or negative
+    variance, too few clusters); the statistic and p-value are then NaN and no
+    renderer may turn them into a verdict.
+    """
 
     name: str
     statistic: float
@@ -27,15 +33,29 @@ class TestResult:
     df: tuple[float, ...]
     distribution: Literal["F", "chi2", "normal"]
     null: str
+    reason: str | None = None
 
-    def rejects(self, level: float) -> bool:
-        return bool(self.pvalue < level)
+    @property
+    def available(self) -> bool:
+        return self.reason is None
+
+    def rejects(self, level: float) -> bool | None:
+        """True or False at ``level``; None when the test is not available."""
+        return None if self.reason is not None else bool(self.pvalue < level)
+
+    @staticmethod
+    def not_available(name: str, null: str, reason: str,
+                      distribution: Literal["F", "chi2", "normal"] = "normal",
+                      df: tuple[float, ...] = ()) -> TestResult:
+        return TestResult(name, math.nan, math.nan, df, distribution, null, reason)
 
     def __str__(self) -> str:
+        if self.reason is not None:
+            return f"{self.name}: not available ({self.reason})"
         df = ", ".join(f"{d:g}" for d in self.df)
         dist = f"{self.distribution}({df})" if df else self.distribution
-        return (f"{self.name}: {dist} = {self.statistic:.4g}, p = {self.pvalue:.4g} "
-                f"(H0: {self.null})")
+        return (f"{self.name}: {dist} statistic {self.statistic:.4g}, p-value {self.pvalue:.4g} "
+                f"(null: {self.null})")
 
 
 @dataclass(frozen=True)
@@ -45,7 +65,13 @@ class Estimate:
     ``exact_low``/``exact_high`` hold the interval obtained by mapping the
     endpoints of the coefficient's own interval, where the quantity is a
     monotone function of one coefficient (None elsewhere, or when that
-    interval crosses the pole of the map).
+    interval crosses the pole of the map).  An interval end may be infinite:
+    unbounded on that side (a half-life whose speed interval reaches zero).
+
+    ``reason`` says why something is not available: with a NaN ``value`` the
+    estimate itself (``missing`` is then shown in its place, e.g. "none" for the
+    half-life without convergence); with a NaN ``se`` its standard error and
+    interval.  ``remark`` is a word shown beside the value ("divergence").
     """
 
     name: str
@@ -56,6 +82,17 @@ class Estimate:
     confidence: float
     exact_low: float | None = None
     exact_high: float | None = None
+    reason: str | None = None
+    missing: str = "not available"
+    remark: str | None = None
+
+    @property
+    def has_value(self) -> bool:
+        return math.isfinite(self.value)
+
+    @property
+    def has_se(self) -> bool:
+        return self.has_value and math.isfinite(self.se)
 
 
 @dataclass(frozen=True)
@@ -108,6 +145,7 @@ class MinimumDistanceFit:
     estimates: tuple[Estimate, ...]
     overid: TestResult
     covariance: str  # of the unrestricted slopes used as the weight
+    reason: str | None = None  # why the fit could not be made (the estimates then hold none)
 
     def estimate(self, name: str) -> Estimate | None:
         return next((e for e in self.estimates if e.name == name), None)
@@ -126,6 +164,7 @@ class Observations:
     y: np.ndarray
     x: np.ndarray
     x_restricted: np.ndarray
+    clusters: np.ndarray | None = None  # cluster labels under cluster-robust covariance
 
 
 @dataclass(frozen=True)
@@ -188,6 +227,7 @@ class ConsistencyCheck:
     difference: Estimate  # growth minus levels
     test: TestResult
     joint_covariance: bool  # False: the two fits were treated as independent
+    n_clusters: int | None = None
 
 
 @dataclass(frozen=True)
@@ -198,17 +238,20 @@ class TargetCheck:
     sample: str
     quantity: str
     published: float
-    ours: float
+    ours: float | None  # None: the quantity is not available (see ``reason``)
     tolerance: float
     source: str
+    reason: str | None = None
 
     @property
-    def difference(self) -> float:
-        return self.ours - self.published
+    def difference(self) -> float | None:
+        return None if self.ours is None else self.ours - self.published
 
     @property
     def met(self) -> bool:
-        return bool(abs(self.difference) <= self.tolerance)
+        """A target on a quantity that is not available is not met."""
+        d = self.difference
+        return d is not None and math.isfinite(d) and abs(d) <= self.tolerance
 
 
 @dataclass(frozen=True)

@@ -8,15 +8,18 @@ for ``steadyfit check``.
 from __future__ import annotations
 
 import platform
-from dataclasses import dataclass
+import warnings
+from dataclasses import dataclass, replace
 from importlib import metadata
 from pathlib import Path
+
+import numpy as np
 
 from . import equations
 from .consistency import consistency_checks
 from .data import EconomyTable, Selection, load_data, select
 from .design import Design, build_design
-from .errors import EstimationError
+from .errors import EstimationError, quote
 from .estimators import fit_ols
 from .findings import (
     EquationFindings,
@@ -28,7 +31,7 @@ from .findings import (
     TargetCheck,
 )
 from .inference import implied_parameters, restriction_tests, unrestricted_shares
-from .quantities import quantities
+from .quantities import quantities, unavailable
 from .spec import Spec, load_spec
 from .structural import minimum_distance, nonlinear_least_squares
 
@@ -87,8 +90,32 @@ def settings_of(spec: Spec) -> Settings:
     )
 
 
+# Below this many clusters cluster-robust standard errors are known to be unreliable
+# (common practice, no source).
+FEW_CLUSTERS = 20
+
+
+def numerical_notes(caught: list[warnings.WarningMessage], stage: str) -> list[str]:
+    """Warnings raised by numpy, scipy or statsmodels while computing, as one note each."""
+    return list(dict.fromkeys(
+        f"numerical warning while {stage} ({w.category.__name__}): "
+        f"{quote(str(w.message).splitlines()[0] if str(w.message) else '', 160)}"
+        for w in caught))
+
+
 def estimate_cell(cell: PlannedCell, settings: Settings) -> EquationFindings:
-    """Fit one equation on one sample, unrestricted and restricted, and judge the results."""
+    """Fit one equation on one sample, unrestricted and restricted, and judge the results.
+
+    Numerical warnings raised on the way become notes of the result, never output.
+    """
+    with warnings.catch_warnings(record=True) as caught, np.errstate(all="warn"):
+        warnings.simplefilter("always")
+        found = _estimate_cell(cell, settings)
+    notes = numerical_notes(caught, "estimating")
+    return replace(found, notes=found.notes + tuple(n for n in notes if n not in found.notes))
+
+
+def _estimate_cell(cell: PlannedCell, settings: Settings) -> EquationFindings:
     d = cell.design
     unres = fit_ols(d.y, d.x_unrestricted, d.names_unrestricted, d.labels_unrestricted,
                     settings.covariance, d.clusters)
@@ -99,10 +126,14 @@ def estimate_cell(cell: PlannedCell, settings: Settings) -> EquationFindings:
                                                 settings.bands, settings.points)
     un_shares, cross = unrestricted_shares(d.form, unres, settings.confidence)
     notes = []
+    for fit in (unres, res):
+        if fit.cov_problem is not None:
+            notes.append(f"{fit.covariance} covariance of the "
+                         f"{'restricted' if fit is res else 'unrestricted'} fit: "
+                         f"{fit.cov_problem}; tests and derived standard errors that need it "
+                         "are not available.")
     md = nls = None
     if problem is not None:
-        notes.append(f"{problem[0].upper()}{problem[1:]}; the implied parameters are not "
-                     "ordinary numbers.")
         if cell.structural:
             raise EstimationError(f"cannot start nonlinear least squares: the linear fit "
                                   f"implies {problem}", d.where)
@@ -119,7 +150,8 @@ def estimate_cell(cell: PlannedCell, settings: Settings) -> EquationFindings:
         n_in_sample=cell.selection.n_in_sample, dependent_label=d.form.dependent_label,
         unrestricted=unres, restricted=res, f_test=f_test, wald_test=wald, shares=shares,
         speed=speed, unrestricted_shares=un_shares, crosscheck=cross, problem=problem,
-        observations=Observations(d.economies, d.y, d.x_unrestricted, d.x_restricted),
+        observations=Observations(d.economies, d.y, d.x_unrestricted, d.x_restricted,
+                                  d.clusters),
         notes=tuple(notes), minimum_distance=md, nonlinear=nls)
 
 
@@ -181,19 +213,32 @@ def run(spec: Spec | str | Path) -> Findings:
         data_rows=p.table.n_economies,
         versions=_versions(),
     )
-    by_cell = {(r.equation, r.sample): quantities(r) for r in results}
+    by_cell = {(r.equation, r.sample): (quantities(r), unavailable(r)) for r in results}
     scorecard = tuple(
         TargetCheck(t.equation, t.sample, t.quantity, t.value,
-                    by_cell[(t.equation, t.sample)][t.quantity], t.tolerance, t.source)
+                    by_cell[(t.equation, t.sample)][0].get(t.quantity), t.tolerance, t.source,
+                    by_cell[(t.equation, t.sample)][1].get(t.quantity))
         for t in p.spec.body.target)
-    checks = consistency_checks(results, settings)
+    with warnings.catch_warnings(record=True) as caught, np.errstate(all="warn"):
+        warnings.simplefilter("always")
+        checks = consistency_checks(results, settings)
+    run_warnings = list(p.table.warnings)
+    run_warnings += numerical_notes(caught, "comparing the levels and growth forms")
+    few = sorted({(r.unrestricted.n_clusters, r.column) for r in results
+                  if r.unrestricted.n_clusters is not None
+                  and r.unrestricted.n_clusters < FEW_CLUSTERS})
+    if few:
+        run_warnings.append(
+            f"inference.cluster: {', '.join(f'{c} ({n} clusters)' for n, c in few)}; "
+            f"cluster-robust standard errors are unreliable below about {FEW_CLUSTERS} clusters "
+            "(common practice, no source)")
     return Findings(
         title=p.spec.body.title,
         spec_stem=p.spec.stem,
         settings=settings,
         samples=tuple(seen.values()),
         results=results,
-        warnings=p.table.warnings,
+        warnings=tuple(run_warnings),
         provenance=prov,
         caveats=caveats(p.spec, p.table),
         scorecard=scorecard,

@@ -28,12 +28,13 @@ same way:
 
 from __future__ import annotations
 
+import math
 from typing import TYPE_CHECKING
 
 from .equations import ModelForm
 
 if TYPE_CHECKING:
-    from .findings import EquationFindings
+    from .findings import EquationFindings, Estimate
 
 CONSTANT = "const"
 
@@ -65,36 +66,81 @@ def quantity_names(form: ModelForm) -> tuple[str, ...]:
     return tuple(names)
 
 
-def quantities(r: EquationFindings) -> dict[str, float]:
-    """The named quantities of one result (see the module docstring)."""
-    q: dict[str, float] = {}
+def quantities(r: EquationFindings) -> dict[str, float | None]:
+    """The named quantities of one result (see the module docstring); None where a quantity
+    is not available (:func:`unavailable` says why)."""
+    return _collect(r)[0]
+
+
+def unavailable(r: EquationFindings) -> dict[str, str]:
+    """Why each quantity of the result's form that has no number has none."""
+    return _collect(r)[1]
+
+
+def _collect(r: EquationFindings) -> tuple[dict[str, float | None], dict[str, str]]:
+    q: dict[str, float | None] = {}
+    why: dict[str, str] = {}
+
+    def put(name: str, value: float, reason: str | None = None) -> None:
+        if value is not None and math.isfinite(value):
+            q[name] = float(value)
+        else:
+            q[name] = None
+            why[name] = reason or "not finite"
+
+    def put_estimate(prefix: str, e: Estimate, interval: bool = True) -> None:
+        put(prefix, e.value, e.reason)
+        put(f"{prefix}_se", e.se, e.reason)
+        if interval:
+            put(f"{prefix}_low", e.low, e.reason)
+            put(f"{prefix}_high", e.high, e.reason)
+
     u, re = r.unrestricted, r.restricted
-    for name, b, se in zip(u.names, u.coef, u.se, strict=True):
-        q[f"coef:{name}"], q[f"se:{name}"] = float(b), float(se)
-    for name, b, se in zip(re.names, re.coef, re.se, strict=True):
-        q[f"restricted_coef:{name}"], q[f"restricted_se:{name}"] = float(b), float(se)
-    q.update(nobs=float(u.nobs), r2=u.rsquared, adj_r2=u.rsquared_adj, ser=u.ser,
-             restricted_adj_r2=re.rsquared_adj, restricted_ser=re.ser)
-    if r.f_test is not None and r.wald_test is not None:
-        q.update(restriction_f=r.f_test.statistic, restriction_p=r.f_test.pvalue,
-                 restriction_wald=r.wald_test.statistic, restriction_wald_p=r.wald_test.pvalue)
+    for fit, coef, se in ((u, "coef", "se"), (re, "restricted_coef", "restricted_se")):
+        for name, b, s in zip(fit.names, fit.coef, fit.se, strict=True):
+            put(f"{coef}:{name}", b)
+            put(f"{se}:{name}", s, "the coefficient's variance is not finite")
+    put("nobs", float(u.nobs))
+    for name, value in (("r2", u.rsquared), ("adj_r2", u.rsquared_adj), ("ser", u.ser),
+                        ("restricted_adj_r2", re.rsquared_adj), ("restricted_ser", re.ser)):
+        put(name, value)
+    for prefix, t in (("restriction_f", r.f_test), ("restriction_wald", r.wald_test)):
+        if t is not None:
+            put(prefix, t.statistic, t.reason)
+            put("restriction_p" if prefix == "restriction_f" else "restriction_wald_p",
+                t.pvalue, t.reason)
     for e in (*(v.estimate for v in r.shares), *r.speed):
-        q[e.name], q[f"{e.name}_se"] = e.value, e.se
-        q[f"{e.name}_low"], q[f"{e.name}_high"] = e.low, e.high
+        put_estimate(e.name, e)
     for e in r.unrestricted_shares:
-        q[f"unrestricted_{e.name}"], q[f"unrestricted_{e.name}_se"] = e.value, e.se
+        put_estimate(f"unrestricted_{e.name}", e, interval=False)
     c = r.crosscheck
     if c is not None:
-        q.update(crosscheck_gap=c.gap.value, crosscheck_gap_se=c.gap.se,
-                 crosscheck_p=c.test.pvalue)
+        put("crosscheck_gap", c.gap.value, c.gap.reason)
+        put("crosscheck_gap_se", c.gap.se, c.gap.reason)
+        put("crosscheck_p", c.test.pvalue, c.test.reason)
     md = r.minimum_distance
     if md is not None:
         for e in md.estimates:
-            q[f"md_{e.name}"], q[f"md_{e.name}_se"] = e.value, e.se
-        q.update(md_overid=md.overid.statistic, md_overid_p=md.overid.pvalue)
+            put_estimate(f"md_{e.name}", e, interval=False)
+        put("md_overid", md.overid.statistic, md.overid.reason)
+        put("md_overid_p", md.overid.pvalue, md.overid.reason)
     nls = r.nonlinear
     if nls is not None:
         for e, rob in zip(nls.estimates, nls.robust, strict=True):
-            q[f"nls_{e.name}"], q[f"nls_{e.name}_se"] = e.value, e.se
-            q[f"nls_{e.name}_robust_se"] = rob.se
-    return q
+            put_estimate(f"nls_{e.name}", e, interval=False)
+            put(f"nls_{e.name}_robust_se", rob.se, rob.reason)
+    from .equations import get_form
+
+    form = get_form(r.form_key, 1.0 if r.form_key.startswith("growth:") else None)
+    for name in quantity_names(form):
+        if name in q:
+            continue
+        q[name] = None
+        if name.startswith("nls_"):
+            why[name] = ("nonlinear least squares was not asked for (structural = false)"
+                         if r.problem is None else f"not estimated: {r.problem}")
+        elif name.startswith("md_"):
+            why[name] = f"not estimated: {r.problem}" if r.problem else "not estimated"
+        else:
+            why[name] = "not computed for this result"
+    return q, why

@@ -16,15 +16,17 @@ of freedom.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable
 
 import numpy as np
-from scipy import linalg, optimize, stats
+from scipy import linalg, optimize
+from scipy.special import chdtrc
 
 from .design import Design
 from .equations import ModelForm
 from .errors import EstimationError
-from .estimators import Fit
+from .estimators import Fit, covariance_problem
 from .findings import Estimate, MinimumDistanceFit, NonlinearFit, TestResult
 from .inference import normal_estimate
 
@@ -92,10 +94,14 @@ def nonlinear_least_squares(design: Design, start: np.ndarray, const: float,
     classical = bread * (e @ e) / (n - k)
     robust_name = "HC1" if covariance == "classical" else covariance
     robust = _sandwich(g, e, bread, robust_name, design.clusters)
+    n_clusters = (len(np.unique(np.asarray(design.clusters).astype(str)))
+                  if robust_name == "cluster" and design.clusters is not None else None)
     names = form.parameters.names
     return NonlinearFit(
-        estimates=_estimates(names, theta[1:], classical[1:, 1:], confidence),
-        robust=_estimates(names, theta[1:], robust[1:, 1:], confidence),
+        estimates=_estimates(names, theta[1:], classical[1:, 1:], confidence,
+                             covariance_problem(classical)),
+        robust=_estimates(names, theta[1:], robust[1:, 1:], confidence,
+                          covariance_problem(robust, n_clusters)),
         robust_covariance=robust_name,
         intercept=float(theta[0]),
         ssr=float(e @ e),
@@ -125,8 +131,8 @@ def _sandwich(g: np.ndarray, e: np.ndarray, bread: np.ndarray, kind: str,
 
 
 def _estimates(names: tuple[str, ...], values: np.ndarray, cov: np.ndarray,
-               confidence: float) -> tuple[Estimate, ...]:
-    return tuple(normal_estimate(n, values[i], np.sqrt(cov[i, i]), confidence)
+               confidence: float, reason: str | None = None) -> tuple[Estimate, ...]:
+    return tuple(normal_estimate(n, values[i], cov[i, i], confidence, reason=reason)
                  for i, n in enumerate(names))
 
 
@@ -134,16 +140,30 @@ def minimum_distance(form: ModelForm, unrestricted: Fit, start: np.ndarray,
                      confidence: float, where: str = "") -> MinimumDistanceFit | None:
     """Parameters closest to the unrestricted slopes in the metric of their covariance.
 
-    None for a form without a restriction (nothing is over-identified), and when the
-    covariance of the unrestricted slopes is singular (it cannot serve as a weight).
+    None for a form without a restriction (nothing is over-identified).  When the
+    covariance of the unrestricted slopes is singular it cannot serve as a weight:
+    the fit is then returned with every estimate and the test not available.
     """
     if not form.restricts:
         return None
     b, v = unrestricted.slopes()
-    try:
-        lower = linalg.cholesky(v, lower=True)
-    except linalg.LinAlgError:  # e.g. cluster-robust covariance from very few clusters
-        return None
+    names = form.parameters.names
+    overid_name = "over-identification test (minimum distance)"
+    null = "the unrestricted slopes satisfy the model's restriction"
+    reason = unrestricted.cov_problem
+    lower = None
+    if reason is None:
+        try:
+            lower = linalg.cholesky(v, lower=True)
+        except linalg.LinAlgError:
+            reason = "the covariance of the unrestricted slopes is singular"
+    if lower is None:
+        why = f"minimum distance needs an invertible weight: {reason}"
+        return MinimumDistanceFit(
+            tuple(Estimate(n, math.nan, math.nan, math.nan, math.nan, confidence, reason=why)
+                  for n in names),
+            TestResult.not_available(overid_name, null, why, "chi2"), unrestricted.covariance,
+            why)
 
     def whitened(theta: np.ndarray) -> np.ndarray:
         implied = form.unrestricted_from_restricted(form.parameters.inverse(theta))
@@ -160,8 +180,6 @@ def minimum_distance(form: ModelForm, unrestricted: Fit, start: np.ndarray,
     cov = np.linalg.inv(jac.T @ jac)
     stat = float(whitened(res.x) @ whitened(res.x))
     df = len(b) - len(res.x)
-    test = TestResult("over-identification test (minimum distance)", stat,
-                      float(stats.chi2.sf(stat, df)), (float(df),), "chi2",
-                      "the unrestricted slopes satisfy the model's restriction")
-    return MinimumDistanceFit(_estimates(form.parameters.names, res.x, cov, confidence), test,
+    test = TestResult(overid_name, stat, float(chdtrc(df, stat)), (float(df),), "chi2", null)
+    return MinimumDistanceFit(_estimates(names, res.x, cov, confidence), test,
                               unrestricted.covariance)

@@ -6,21 +6,19 @@ import html
 from dataclasses import dataclass
 from typing import Any
 
-from ..findings import EquationFindings, Findings
+from ..findings import EquationFindings, Findings, TestResult
 from .figures import Figure
 from .tables import (
     Table,
     all_tables,
     compact_table,
-    consistency_lines,
     format_cell,
     format_number,
-    format_p,
     scorecard_table,
     share_status,
     shares_table,
-    verdict_lines,
 )
+from .verdicts import consistency_lines, format_p, speed_phrase, verdict_lines
 
 
 def render_table_html(table: Table, digits: int = 3) -> str:
@@ -72,40 +70,50 @@ class ShareLine:
 class Verdict:
     column: str
     nobs: int
+    clusters: int | None
     restriction: str
-    held: bool | None  # None: the form imposes no restriction
+    outcome: str | None  # "rejected", "not rejected", "not available"; None: nothing to test
     f_p: str
     wald_p: str
+    reason: str | None  # why the F test is not available
     problem: str | None
     shares: tuple[ShareLine, ...]
+    speed: str | None
     notes: tuple[str, ...]
+
+
+def _p_text(t: TestResult | None) -> str:
+    if t is None:
+        return ""
+    return format_p(t.pvalue) if t.available else "not available"
 
 
 def _verdict(r: EquationFindings, level: float, digits: int) -> Verdict:
     lines = []
     for v in r.shares:
         e = v.estimate
+        if not e.has_value:
+            value, interval = e.missing, ""
+        else:
+            value = format_number(e.value, digits)
+            interval = (f"{format_number(e.low, digits)} to {format_number(e.high, digits)}"
+                        if e.has_se else "no interval")
         lines.append(ShareLine(
-            e.name,
-            format_number(e.value, digits) if r.steady_state else "n/a",
-            f"{format_number(e.low, digits)} to {format_number(e.high, digits)}",
+            e.name, value, interval,
             f"{format_number(v.band[0], 2)} to {format_number(v.band[1], 2)}" if v.band else "",
             share_status(v, r),
-            format_p(v.point_test.pvalue) if v.point_test else "",
+            _p_text(v.point_test) if v.point_test else "",
         ))
-    for e in r.speed:
-        fmt = (lambda x: f"{x:.1f}") if e.name == "half_life" else (
-            lambda x: format_number(x, digits + 1))
-        lines.append(ShareLine(
-            {"lam": "lambda", "half_life": "half-life (years)"}.get(e.name, e.name),
-            fmt(e.value) if r.steady_state else "n/a", f"{fmt(e.low)} to {fmt(e.high)}", "",
-            "", ""))
+    lam, half = r.speed_estimate("lam"), r.speed_estimate("half_life")
     f, w = r.f_test, r.wald_test
-    return Verdict(r.column, r.nobs, r.restriction_text,
-                   None if f is None else not f.rejects(level),
-                   format_p(f.pvalue) if f else "", format_p(w.pvalue) if w else "",
-                   r.problem, tuple(lines),
-                   r.notes)
+    outcome = None
+    if f is not None:
+        rejects = f.rejects(level)
+        outcome = ("not available" if rejects is None else
+                   "rejected" if rejects else "not rejected")
+    return Verdict(r.column, r.nobs, r.unrestricted.n_clusters, r.restriction_text, outcome,
+                   _p_text(f), _p_text(w), f.reason if f is not None else None, r.problem,
+                   tuple(lines), speed_phrase(lam, half) if lam and half else None, r.notes)
 
 
 def render_html_fragment(findings: Findings) -> str:

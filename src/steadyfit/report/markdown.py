@@ -5,11 +5,14 @@ from __future__ import annotations
 import re
 
 from ..findings import Findings
-from .tables import Table, all_tables, format_cell, verdict_lines
+from .tables import Table, all_tables, format_cell
+from .verdicts import verdict_lines
 
 
 def _md_escape(text: str) -> str:
-    """Escape table pipes and anything a Markdown viewer could take for an HTML tag."""
+    """Escape table pipes, line breaks (a newline would end a table row) and anything a
+    Markdown viewer could take for an HTML tag."""
+    text = re.sub(r"[\r\n\t\x0b\x0c\x85\u2028\u2029]+", " ", text)
     text = text.replace("&", "&amp;") if re.search(r"&\w+;", text) else text
     return re.sub(r"<(?=[A-Za-z/!?])", "&lt;", text.replace("|", "\\|"))
 
@@ -26,7 +29,8 @@ def render_table_md(table: Table, digits: int = 3) -> str:
         out.append("| " + " | ".join([_md_escape(row.label)] +
                                      [_md_escape(t) for t, _ in texts]) + " |")
         if any(se is not None for _, se in texts):
-            out.append("| " + " | ".join([""] + [se or "" for _, se in texts]) + " |")
+            out.append("| " + " | ".join([""] + [_md_escape(se or "") for _, se in texts])
+                       + " |")
     if table.notes:
         out.append("")
         out += [f"{_md_escape(n)}  " for n in table.notes]

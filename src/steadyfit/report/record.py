@@ -8,9 +8,9 @@ from typing import Any
 
 from ..estimators import Fit
 from ..findings import EquationFindings, Estimate, Findings, ShareVerdict, TestResult
-from ..quantities import quantities
+from ..quantities import quantities, unavailable
 
-FORMAT_VERSION = 1
+FORMAT_VERSION = 2  # 2: "reason" beside every number that is not available
 
 
 def _num(x: Any) -> Any:
@@ -39,16 +39,26 @@ def _fit(f: Fit, confidence: float) -> dict[str, Any]:
         "adj_r2": _num(f.rsquared_adj),
         "ser": _num(f.ser),
         "ssr": _num(f.ssr),
+        "clusters": f.n_clusters,
+        "covariance_problem": f.cov_problem,
     }
 
 
 def _test(t: TestResult) -> dict[str, Any]:
-    return {"name": t.name, "statistic": _num(t.statistic), "p": _num(t.pvalue),
+    return {"name": t.name, "available": t.available, "reason": t.reason,
+            "statistic": _num(t.statistic), "p": _num(t.pvalue),
             "df": [_num(d) for d in t.df], "distribution": t.distribution, "null": t.null}
 
 
+_TEXT_FIELDS = ("name", "reason", "missing", "remark")
+
+
 def _estimate(e: Estimate) -> dict[str, Any]:
-    return {k: (_num(v) if k not in ("name",) else v) for k, v in asdict(e).items()}
+    out = {k: (v if k in _TEXT_FIELDS else _num(v)) for k, v in asdict(e).items()}
+    # an infinite interval end is unbounded on that side, not missing
+    out["unbounded"] = [k for k in ("low", "high", "exact_low", "exact_high")
+                        if isinstance(getattr(e, k), float) and math.isinf(getattr(e, k))]
+    return out
 
 
 def _verdict(v: ShareVerdict) -> dict[str, Any]:
@@ -92,6 +102,7 @@ def _result(r: EquationFindings, confidence: float) -> dict[str, Any]:
         "minimum_distance": None if r.minimum_distance is None else {
             "estimates": [_estimate(e) for e in r.minimum_distance.estimates],
             "overid": _test(r.minimum_distance.overid),
+            "reason": r.minimum_distance.reason,
             "weight_covariance": r.minimum_distance.covariance},
         "nonlinear_least_squares": None if r.nonlinear is None else {
             "estimates": [_estimate(e) for e in r.nonlinear.estimates],
@@ -100,6 +111,7 @@ def _result(r: EquationFindings, confidence: float) -> dict[str, Any]:
             "intercept": _num(r.nonlinear.intercept), "ssr": _num(r.nonlinear.ssr),
             "evaluations": r.nonlinear.evaluations},
         "quantities": {k: _num(v) for k, v in quantities(r).items()},
+        "unavailable": unavailable(r),
     }
 
 
@@ -124,7 +136,7 @@ def to_record(findings: Findings, run: dict[str, Any]) -> dict[str, Any]:
         "scorecard": [
             {"equation": t.equation, "sample": t.sample, "quantity": t.quantity,
              "published": t.published, "ours": _num(t.ours), "difference": _num(t.difference),
-             "tolerance": t.tolerance, "met": t.met, "source": t.source}
+             "tolerance": t.tolerance, "met": t.met, "reason": t.reason, "source": t.source}
             for t in findings.scorecard],
         "targets_met": findings.targets_met,
         "consistency": [
@@ -132,7 +144,7 @@ def to_record(findings: Findings, run: dict[str, Any]) -> dict[str, Any]:
              "growth_equation": c.growth_equation, "quantity": c.quantity,
              "from_levels": _estimate(c.from_levels), "from_growth": _estimate(c.from_growth),
              "difference": _estimate(c.difference), "test": _test(c.test),
-             "joint_covariance": c.joint_covariance}
+             "joint_covariance": c.joint_covariance, "clusters": c.n_clusters}
             for c in findings.consistency],
         "warnings": list(findings.warnings),
         "caveats": list(findings.caveats),

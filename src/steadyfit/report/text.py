@@ -43,12 +43,16 @@ def render_table_text(table: Table, digits: int = 3, width: int = 100) -> str:
 
 def render_text(findings: Findings, tables: tuple[Table, ...] | None = None) -> str:
     """The compact terminal view: warnings, notes and the key-results table."""
-    from .tables import compact_table, consistency_lines
+    from .tables import compact_table
+    from .verdicts import consistency_lines
 
     parts = [findings.title]
     for w in findings.warnings:
         parts += textwrap.wrap("warning: " + w, 100, subsequent_indent="  ")
     for r in findings.results:
+        if r.problem:
+            parts += textwrap.wrap(f"note ({r.column}): {r.problem}.", 100,
+                                   subsequent_indent="  ")
         for note in r.notes:
             parts += textwrap.wrap(f"note ({r.column}): {note}", 100, subsequent_indent="  ")
     for table in tables or (compact_table(findings),):

@@ -1,0 +1,122 @@
+"""Plain-language verdicts from findings, for the top of every report.
+
+The words are deliberately careful: a restriction is "not rejected" or
+"rejected at the x% level", never "holds"; a test that could not be computed
+is "not available" with its reason, never a verdict; a speed of convergence is
+shown as the number it is, with "divergence" when it is negative.
+"""
+
+from __future__ import annotations
+
+from ..findings import EquationFindings, Estimate, Findings, ShareVerdict, TestResult
+from .tables import format_number, problem_label
+
+
+def format_p(p: float) -> str:
+    """A p-value for prose: three decimals, or '< 0.001'."""
+    return "< 0.001" if p < 0.001 else f"{p:.3f}"
+
+
+def p_phrase(p: float) -> str:
+    """'p < 0.001' or 'p = 0.123'."""
+    text = format_p(p)
+    return f"p {text}" if text.startswith("<") else f"p = {text}"
+
+
+def restriction_phrase(t: TestResult, level: float) -> str:
+    """'not rejected at the 5% level (F p = 0.38)', or why the test is not available."""
+    rejects = t.rejects(level)
+    if rejects is None:
+        return f"not tested: the F test is not available ({t.reason})"
+    word = "rejected" if rejects else "not rejected"
+    return f"{word} at the {level:.0%} level (F {p_phrase(t.pvalue)})"
+
+
+def _share_phrase(v: ShareVerdict, r: EquationFindings) -> str:
+    e = v.estimate
+    pct = round(e.confidence * 100)
+    if not e.has_value:
+        return f"{e.name}: {e.missing} ({e.reason})" if e.reason else f"{e.name}: {e.missing}"
+    if not e.has_se:
+        return (f"{e.name} = {format_number(e.value)}, with no standard error or interval "
+                f"({e.reason}), so no band verdict or test")
+    text = (f"{e.name} = {format_number(e.value)} ({pct}% interval "
+            f"{format_number(e.low)} to {format_number(e.high)})")
+    if v.band and v.band_status:
+        where = {"inside": "inside", "overlaps": "overlapping", "outside": "outside"}
+        text += (f", {where[v.band_status]} the plausible band {format_number(v.band[0], 2)}"
+                 f" to {format_number(v.band[1], 2)}")
+    if v.point_test and v.point is not None and v.point_test.available:
+        text += f"; test of {e.name} = {v.point:.3g}: {p_phrase(v.point_test.pvalue)}"
+    if v.interval_reaches_one:
+        text += "; the interval reaches 1, where no steady state exists"
+    return text
+
+
+def speed_phrase(lam: Estimate, half: Estimate) -> str:
+    """The speed of convergence and half-life in words (divergence said as such)."""
+    if not lam.has_value:
+        return f"lambda {lam.missing} ({lam.reason})"
+    word = "divergence" if lam.value < 0 else "convergence"
+    text = f"{word} {format_number(lam.value, 4)} a year"
+    if lam.has_se:
+        text += (f" ({round(lam.confidence * 100)}% interval {format_number(lam.low, 4)} to "
+                 f"{format_number(lam.high, 4)})")
+    if not half.has_value:
+        return f"{text}; half-life {half.missing} ({half.reason})"
+    text += f", a half-life of {half.value:.0f} years"
+    if half.has_se:
+        high = "unbounded" if half.high == float("inf") else f"{half.high:.0f}"
+        text += f" (interval {half.low:.0f} to {high})"
+    return text
+
+
+def verdict_lines(findings: Findings) -> tuple[str, ...]:
+    """One plain-language verdict per equation and sample, for the top of every report."""
+    level = 1 - findings.settings.confidence
+    out = []
+    for r in findings.results:
+        f = r.f_test
+        size = f"{r.nobs} economies" + (f" in {r.unrestricted.n_clusters} clusters"
+                                        if r.unrestricted.n_clusters is not None else "")
+        if f is None:
+            head = f"{r.column} ({size}): no restriction to test."
+        else:
+            head = (f"{r.column} ({size}): the constant-returns restriction is "
+                    f"{restriction_phrase(f, level)}.")
+        parts = []
+        if r.problem is not None:
+            parts.append(r.problem)
+        parts += [_share_phrase(v, r) for v in r.shares
+                  if (v.band is not None or "+" in v.name) and v.estimate.has_value]
+        lam, half = r.speed_estimate("lam"), r.speed_estimate("half_life")
+        if lam is not None and half is not None:
+            parts.append(speed_phrase(lam, half))
+        text = "; ".join(parts)
+        out.append(f"{head} {text[0].upper()}{text[1:]}." if parts else head)
+    return (*out, *consistency_lines(findings))
+
+
+def consistency_lines(findings: Findings) -> tuple[str, ...]:
+    """One sentence per cross-equation comparison; no verdict where the test is not
+    available."""
+    level = 1 - findings.settings.confidence
+    out = []
+    for c in findings.consistency:
+        what = "speed of convergence" if c.quantity == "lam" else c.quantity
+        start = (f"{c.levels_equation} and {c.growth_equation} on {c.sample}: the {what} "
+                 f"from the levels form ({format_number(c.from_levels.value, 4)}) and from "
+                 f"the growth form ({format_number(c.from_growth.value, 4)})")
+        rejects = c.test.rejects(level)
+        if rejects is None:
+            out.append(f"{start} cannot be compared: the test is not available "
+                       f"({c.test.reason}).")
+            continue
+        held = "differ" if rejects else "do not differ"
+        out.append(f"{start} {held} significantly at the {level:.0%} level "
+                   f"({p_phrase(c.test.pvalue)}).")
+    return tuple(out)
+
+
+__all__ = ["consistency_lines", "format_p", "p_phrase", "problem_label", "restriction_phrase",
+           "speed_phrase", "verdict_lines"]
