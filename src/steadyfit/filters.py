@@ -28,7 +28,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from .errors import InputError, did_you_mean
+from .errors import InputError, did_you_mean, excerpt, quote
 
 _TOKEN = re.compile(
     r"""\s*(?:
@@ -87,6 +87,14 @@ class Everything:
 Node = Compare | Member | Not | BoolOp | Everything
 
 
+class _SyntaxProblem(ValueError):
+    """A syntax error at a position (from 1) of the filter text."""
+
+    def __init__(self, message: str, position: int) -> None:
+        super().__init__(message)
+        self.position = position
+
+
 def _tokenize(text: str) -> list[tuple[str, str, int]]:
     tokens: list[tuple[str, str, int]] = []
     pos = 0
@@ -95,8 +103,9 @@ def _tokenize(text: str) -> list[tuple[str, str, int]]:
             break
         m = _TOKEN.match(text, pos)
         if not m or m.end() == pos:
-            char = text[pos:].lstrip()[:1]
-            raise ValueError(f"unexpected character {char!r} at position {pos + 1}")
+            skipped = len(text[pos:]) - len(text[pos:].lstrip())
+            char = text[pos + skipped:pos + skipped + 1]
+            raise _SyntaxProblem(f"unexpected character {char!r}", pos + skipped + 1)
         kind = m.lastgroup or ""
         value, start = m.group(kind), m.start(kind)
         if kind == "name" and value in _KEYWORDS:
@@ -106,10 +115,23 @@ def _tokenize(text: str) -> list[tuple[str, str, int]]:
     return tokens
 
 
+# Filters nested deeper than this (parentheses or "not") are refused: the parser and the
+# evaluator recurse once per level.
+MAX_DEPTH = 100
+
+
 class _Parser:
     def __init__(self, text: str) -> None:
         self.tokens = _tokenize(text)
         self.i = 0
+        self.depth = 0
+
+    def deeper(self) -> None:
+        self.depth += 1
+        if self.depth > MAX_DEPTH:
+            tok = self.peek()
+            raise _SyntaxProblem(f"the filter is nested more than {MAX_DEPTH} levels deep",
+                                 tok[2] if tok else 0)
 
     def peek(self) -> tuple[str, str, int] | None:
         return self.tokens[self.i] if self.i < len(self.tokens) else None
@@ -157,10 +179,15 @@ class _Parser:
 
     def factor(self) -> Node:
         if self.accept("not"):
-            return Not(self.factor())
+            self.deeper()
+            node: Node = Not(self.factor())
+            self.depth -= 1
+            return node
         if self.accept("("):
+            self.deeper()
             node = self.expr()
             self.expect(")")
+            self.depth -= 1
             return node
         return self.comparison()
 
@@ -213,11 +240,24 @@ class _Parser:
 
 
 def parse_filter(text: str, where: str = "filter") -> Node:
-    """Parse a filter expression; raise :class:`InputError` naming ``where`` on a syntax error."""
+    """Parse a filter expression; raise :class:`InputError` naming ``where`` on a syntax error.
+
+    The message quotes at most about 80 characters of the filter, around the problem.
+    """
+    if not isinstance(text, str):
+        raise InputError("a filter is text", where)
+    parser: _Parser | None = None
     try:
-        return _Parser(text or "").parse()
+        parser = _Parser(text or "")
+        return parser.parse()
     except ValueError as exc:
-        raise InputError(f"cannot read filter {text!r}: {exc}", where) from None
+        position = getattr(exc, "position", None)
+        if position is None:
+            tok = parser.peek() if parser is not None else None
+            position = tok[2] if tok else len(text) + 1
+        message = re.sub(r" at position \d+", "", str(exc))
+        raise InputError(f"cannot read the filter: {quote(message, 120)}; near "
+                         f"{excerpt(text, position)}", where) from None
 
 
 def referenced_columns(node: Node) -> tuple[str, ...]:

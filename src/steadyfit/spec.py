@@ -19,7 +19,7 @@ from typing import Any, Literal, get_args
 from pydantic import BaseModel, ConfigDict, Field, ValidationError, field_validator, model_validator
 
 from . import equations
-from .errors import InputError, did_you_mean, one_of
+from .errors import InputError, did_you_mean, one_of, quote
 from .estimators import CovarianceName
 from .quantities import quantity_names
 
@@ -27,11 +27,26 @@ Unit = Literal["percent", "fraction"]
 NonPositive = Literal["error", "drop"]
 FigureChoice = Literal["all", "key", "none"]
 RATE_VARIABLES = ("invest", "schooling", "workforce_growth")
-_NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_\-]*$")
+# Names become file names in run folders: a letter first, then letters, digits, _ and -, so
+# none can be '.', '..', absolute or hold a separator.
+_NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_\-]{0,63}$")
 
 
 class _Record(BaseModel):
-    model_config = ConfigDict(extra="forbid", frozen=True)
+    # NaN and infinity are refused in every number; booleans are not numbers (strict below)
+    model_config = ConfigDict(extra="forbid", frozen=True, allow_inf_nan=False)
+
+    @model_validator(mode="before")
+    @classmethod
+    def _no_booleans_as_numbers(cls, data: Any) -> Any:
+        if isinstance(data, dict):
+            for name, field in cls.model_fields.items():
+                value = data.get(name)
+                kinds = {field.annotation, *get_args(field.annotation)}
+                if isinstance(value, bool) and (kinds & {int, float}) and bool not in kinds:
+                    raise ValueError(f"{name}: expected a number, not the boolean "
+                                     f"{str(value).lower()}")
+        return data
 
 
 class ColumnMap(_Record):
@@ -59,6 +74,7 @@ class DataSpec(_Record):
     columns: ColumnMap
     units: UnitMap = Field(default_factory=UnitMap)
     non_positive: NonPositive = "error"
+    missing_codes: tuple[float, ...] = ()
 
     @model_validator(mode="after")
     def _units_declared(self) -> DataSpec:
@@ -86,8 +102,8 @@ class EquationSpec(_Record):
     @classmethod
     def _name_ok(cls, v: str) -> str:
         if not _NAME.match(v):
-            raise ValueError(f"'{v}' must start with a letter and hold only letters, digits, "
-                             "_ and -")
+            raise ValueError(f"'{quote(v)}' must start with a letter and hold only letters, "
+                             "digits, _ and - (at most 64 characters)")
         return v
 
     @model_validator(mode="after")
@@ -171,8 +187,8 @@ class SpecBody(_Record):
             raise ValueError("at least one sample is needed (an empty filter \"\" selects all)")
         for name in v:
             if not _NAME.match(name):
-                raise ValueError(f"sample name '{name}' must start with a letter and hold only "
-                                 "letters, digits, _ and -")
+                raise ValueError(f"sample name '{quote(name)}' must start with a letter and hold "
+                                 "only letters, digits, _ and - (at most 64 characters)")
         return v
 
     @model_validator(mode="after")
@@ -183,7 +199,7 @@ class SpecBody(_Record):
                 raise ValueError(f"equation[{i}].name: the name '{eq.name}' is used twice")
             for s in eq.samples or ():
                 if s not in self.samples:
-                    raise ValueError(f"equation[{i}].samples: unknown sample '{s}'"
+                    raise ValueError(f"equation[{i}].samples: unknown sample '{quote(s)}'"
                                      f"{did_you_mean(s, self.samples)}")
             form = equations.find_form(eq.form, eq.capital)
             for var in form.needs:
@@ -196,15 +212,15 @@ class SpecBody(_Record):
         for i, t in enumerate(self.target, 1):
             target_eq = equations_by_name.get(t.equation)
             if target_eq is None:
-                raise ValueError(f"target[{i}].equation: unknown equation '{t.equation}'"
+                raise ValueError(f"target[{i}].equation: unknown equation '{quote(t.equation)}'"
                                  f"{did_you_mean(t.equation, equations_by_name)}")
             runs_on = target_eq.samples or tuple(self.samples)
             if t.sample not in runs_on:
                 raise ValueError(f"target[{i}].sample: equation '{t.equation}' does not run on "
-                                 f"sample '{t.sample}'{did_you_mean(t.sample, runs_on)}")
+                                 f"sample '{quote(t.sample)}'{did_you_mean(t.sample, runs_on)}")
             known = quantity_names(equations.find_form(target_eq.form, target_eq.capital))
             if t.quantity not in known:
-                raise ValueError(f"target[{i}].quantity: '{t.quantity}' is not a quantity of "
+                raise ValueError(f"target[{i}].quantity: '{quote(t.quantity)}' is not a quantity of "
                                  f"equation '{t.equation}'{did_you_mean(t.quantity, known)}")
         return self
 
@@ -246,20 +262,54 @@ def load_spec(path: str | Path) -> Spec:
     try:
         raw = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        raise InputError(f"malformed TOML: {exc}", str(path)) from None
+        raise InputError(f"malformed TOML: {quote(exc, 160)}", path.name) from None
+    except RecursionError:
+        raise InputError(f"values are nested too deeply (at most {MAX_DEPTH} levels)",
+                         path.name) from None
     return _validate(raw, path.parent.resolve(), path, text)
 
 
 def spec_from_dict(raw: Mapping[str, Any], base_dir: str | Path = ".") -> Spec:
     """Validate a spec given as a dictionary (the parsed form of the TOML)."""
+    if not isinstance(raw, Mapping):
+        raise InputError("a spec is a table of keys", "spec")
+    deep = _too_deep(raw)
+    if deep is not None:
+        raise InputError(f"values are nested more than {MAX_DEPTH} levels deep", f"spec: {deep}")
     return _validate(dict(raw), Path(base_dir).resolve(), None, repr(sorted(raw.items(), key=str)))
 
 
+# Specs are small and flat; anything nested deeper than this is refused before validation
+# (the validator and the error messages walk values recursively).
+MAX_DEPTH = 100
+
+
+def _too_deep(raw: Any) -> str | None:
+    """The key path of the first value nested deeper than MAX_DEPTH, or None (no recursion)."""
+    stack: list[tuple[Any, int, str]] = [(raw, 0, "")]
+    while stack:
+        value, depth, where = stack.pop()
+        if depth > MAX_DEPTH:
+            return quote(where.split(".")[0].split("[")[0] or "spec")
+        if isinstance(value, Mapping):
+            stack += [(v, depth + 1, f"{where}.{k}" if where else str(k))
+                      for k, v in value.items()]
+        elif isinstance(value, list | tuple):
+            stack += [(v, depth + 1, f"{where}[{i + 1}]") for i, v in enumerate(value)]
+    return None
+
+
 def _validate(raw: dict[str, Any], base_dir: Path, path: Path | None, text: str) -> Spec:
+    deep = _too_deep(raw)
+    if deep is not None:
+        where = f"{path.name}" if path is not None else "spec"
+        raise InputError(f"values are nested more than {MAX_DEPTH} levels deep", f"{where}: {deep}")
     try:
         body = SpecBody.model_validate(raw)
     except ValidationError as exc:
-        err = exc.errors()[0]
+        # an unknown (often misspelled) key explains a "required" error beside it: say it first
+        errors = sorted(exc.errors(), key=lambda e: e["type"] != "extra_forbidden")
+        err = errors[0]
         loc = tuple(err["loc"])
         message, loc = _message(err, loc)
         where = _loc_text(loc)
@@ -276,13 +326,20 @@ def _message(err: Mapping[str, Any], loc: tuple[Any, ...]) -> tuple[str, tuple[A
     if kind == "extra_forbidden":
         key = loc[-1]
         allowed = _fields_at(SpecBody, loc[:-1])
-        return f"unknown key '{key}'{did_you_mean(str(key), allowed)}", loc
+        return (f"unknown key '{quote(key)}'{did_you_mean(str(key), allowed)}",
+                (*loc[:-1], quote(key, 40)))
     if kind == "missing":
         return "this key is required", loc
     if kind == "literal_error":
         expected = re.findall(r"'([^']*)'", str(err.get("ctx", {}).get("expected", "")))
         return one_of(err.get("input"), expected), loc
+    if kind == "finite_number":
+        return f"{quote(err.get('input'))} is not a finite number", loc
     msg = str(err["msg"])
+    if "input" in err and kind not in ("value_error",):
+        value = err.get("input")
+        if isinstance(value, str | int | float | bool):
+            msg += f" (got {quote(repr(value))})"
     msg = re.sub(r"^(Value|Assertion) error, ", "", msg)
     # validators that know a deeper key say so as "key.path: message"
     m = re.match(r"^([A-Za-z_][\w.\[\]]*): (.*)$", msg)
