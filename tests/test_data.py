@@ -116,7 +116,7 @@ def test_workforce_shrinking_faster_than_g_plus_delta(tmp_path):
     frame = _frame()
     frame.loc[0, "n"] = -6.0  # n + g + delta = -0.01
     spec = _spec(tmp_path, frame)
-    with pytest.raises(InputError, match="economy 'Aa' has n \\+ g \\+ delta <= 0"):
+    with pytest.raises(InputError, match=r"economy 'Aa' has n \+ g \+ delta = -0.01 <= 0 \(n = -6"):
         select(load_data(spec), spec, "all", find_form("levels", ["physical"]))
 
 

@@ -134,10 +134,23 @@ def _demo(out: Path, quiet: bool) -> int:
     return _run(spec_path, out / "reports", quiet)
 
 
-def main(argv: Sequence[str] | None = None) -> int:
-    args = _parser().parse_args(argv)
-    from .errors import InputError
+def _on_sigterm(signum: int, frame: object) -> None:
+    from .errors import Terminated
 
+    raise Terminated(signum)
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    import signal
+    import threading
+
+    args = _parser().parse_args(argv)
+    from .errors import InputError, Terminated
+
+    previous = None
+    if threading.current_thread() is threading.main_thread():
+        # SIGTERM ends the run through the same clean-up as Ctrl-C: no temporary folder is left
+        previous = signal.signal(signal.SIGTERM, _on_sigterm)
     try:
         if args.command == "run":
             return _run(args.spec, args.out, args.quiet, args.strict)
@@ -159,12 +172,20 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("steadyfit: interrupted", file=sys.stderr)
         return 130
+    except Terminated:
+        print("steadyfit: terminated", file=sys.stderr)
+        return 143
     except Exception as exc:  # an internal error: say so, keep the traceback behind --debug
         if args.debug:
             raise
-        print(f"steadyfit: internal error: {type(exc).__name__}: {exc} "
+        from .errors import quote
+
+        print(f"steadyfit: internal error: {type(exc).__name__}: {quote(exc, 200)} "
               "(run again with --debug for the traceback)", file=sys.stderr)
         return 1
+    finally:
+        if previous is not None:
+            signal.signal(signal.SIGTERM, previous)
 
 
 if __name__ == "__main__":

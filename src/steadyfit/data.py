@@ -8,6 +8,7 @@ it applies the sample filter and lists every economy it drops, with the reason.
 
 from __future__ import annotations
 
+import csv
 import hashlib
 from dataclasses import dataclass
 from pathlib import Path
@@ -16,7 +17,7 @@ import numpy as np
 import pandas as pd
 
 from .equations import ModelForm
-from .errors import InputError, did_you_mean
+from .errors import InputError, did_you_mean, quote
 from .filters import evaluate_filter, parse_filter, referenced_columns
 from .spec import RATE_VARIABLES, Spec
 
@@ -79,24 +80,101 @@ class Selection:
         return len(self.frame)
 
 
+# What a CSV cell may hold for "missing" (the usual spellings); ids never use this list:
+# 'NA', 'N/A' and 'None' are real economy codes, only a blank id is missing.
+_MISSING_TEXT = ("", "#N/A", "#N/A N/A", "#NA", "-1.#IND", "-1.#QNAN", "-NaN", "-nan",
+                 "1.#IND", "1.#QNAN", "<NA>", "N/A", "NA", "NULL", "NaN", "None", "n/a", "nan",
+                 "null")
+_DELIMITERS = {",": "comma", ";": "semicolon", "\t": "tab"}
+
+
+def _sniff_delimiter(sample: str, name: str) -> str:
+    """The delimiter of a CSV file: comma, semicolon or tab, judged from its first lines."""
+    lines = [ln for ln in sample.splitlines()[:20] if ln.strip()]
+    if not lines:
+        raise InputError(f"'{name}' is empty", "data.file")
+    try:
+        found = csv.Sniffer().sniff("\n".join(lines), delimiters="".join(_DELIMITERS)).delimiter
+        if found in _DELIMITERS:
+            return found
+    except csv.Error:
+        pass
+    counts = {d: lines[0].count(d) for d in _DELIMITERS}
+    best = max(counts, key=lambda d: counts[d])
+    if counts[best] > 0:
+        return best
+    other = max("|:^~ ", key=lines[0].count)
+    if lines[0].count(other) > 0:
+        shown = "space" if other == " " else f"'{other}'"
+        raise InputError(f"'{name}' seems to separate its values with {shown}; steadyfit reads "
+                         "comma, semicolon or tab separated files", "data.file")
+    return ","
+
+
+def _read_csv(path: Path, id_column: str | None) -> pd.DataFrame:
+    with path.open("rb") as fh:
+        start = fh.read(1 << 16)
+    if start.startswith(b"PAR1"):
+        raise InputError(f"'{path.name}' holds Parquet data, not CSV text; rename it to "
+                         ".parquet", "data.file")
+    try:
+        sample = start.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        if exc.start < len(start) - 4:  # not merely a character cut at the sample's end
+            raise InputError(f"'{path.name}' is not UTF-8 text (byte {exc.start + 1}); save it "
+                             "as UTF-8 CSV", "data.file") from None
+        sample = start[: exc.start].decode("utf-8")
+    sep = _sniff_delimiter(sample.lstrip("\ufeff"), path.name)
+    header = next(csv.reader([sample.lstrip("\ufeff").splitlines()[0]], delimiter=sep))
+    header = [h.strip() for h in header]
+    seen: set[str] = set()
+    for h in header:
+        if h in seen:
+            raise InputError(f"the column name '{quote(h)}' appears more than once in the "
+                             "header; rename one of them", f"data.file '{path.name}'")
+        seen.add(h)
+    na = {h: list(_MISSING_TEXT) for h in header if h != id_column}
+    return pd.read_csv(path, sep=sep, dtype={id_column: str} if id_column else None,
+                       keep_default_na=False, na_values=na, encoding="utf-8-sig")
+
+
 def read_table(path: Path, id_column: str | None = None) -> pd.DataFrame:
-    """Read a CSV or Parquet file into a DataFrame (the id column of a CSV as text, so codes
-    such as '004' keep their leading zeros)."""
+    """Read a CSV (comma, semicolon or tab separated, UTF-8) or Parquet file into a DataFrame.
+
+    The id column of a CSV is read as text, so codes such as '004' keep their leading zeros
+    and 'NA' stays an id.
+    """
     if not path.exists():
         raise InputError(f"data file '{path}' does not exist", "data.file")
+    if path.is_dir():
+        raise InputError(f"'{path}' is a folder, not a data file", "data.file")
     suffix = path.suffix.lower()
     try:
         if suffix == ".csv":
-            return pd.read_csv(path, dtype={id_column: str} if id_column else None)
-        if suffix in (".parquet", ".pq"):
+            frame = _read_csv(path, id_column)
+        elif suffix in (".parquet", ".pq"):
+            with path.open("rb") as fh:
+                if fh.read(4) != b"PAR1":
+                    raise InputError(f"'{path.name}' does not hold Parquet data (a Parquet "
+                                     "file starts with 'PAR1'); if it is CSV text, rename it "
+                                     "to .csv", "data.file")
             try:
-                return pd.read_parquet(path)
+                frame = pd.read_parquet(path)
             except ImportError as exc:
                 raise InputError(f"reading Parquet needs a working pyarrow ({exc}); "
                                  "pip install 'steadyfit[parquet]'", "data.file") from None
-    except (pd.errors.ParserError, pd.errors.EmptyDataError, UnicodeDecodeError, OSError) as exc:
-        raise InputError(f"cannot read '{path.name}': {exc}", "data.file") from None
-    raise InputError(f"'{path.name}' is neither .csv nor .parquet", "data.file")
+        else:
+            raise InputError(f"'{quote(path.name)}' is neither .csv nor .parquet", "data.file")
+    except InputError:
+        raise
+    except (pd.errors.ParserError, pd.errors.EmptyDataError, UnicodeDecodeError, OSError,
+            ValueError) as exc:
+        raise InputError(f"cannot read '{path.name}': {quote(exc, 160)}", "data.file") from None
+    dup = frame.columns[pd.Index(frame.columns).duplicated()]
+    if len(dup):
+        raise InputError(f"the column name '{quote(dup[0])}' appears more than once",
+                         f"data.file '{path.name}'")
+    return frame
 
 
 def _sha256(path: Path) -> str:
@@ -107,6 +185,34 @@ def _sha256(path: Path) -> str:
     return h.hexdigest()
 
 
+def _check_ids(raw: pd.DataFrame, id_column: str, name: str) -> tuple[pd.Index, list[str]]:
+    """Economy ids as text: blanks refused, duplicates refused (also after trimming spaces),
+    ids equal after case folding warned about."""
+    ids = raw[id_column]
+    text = ids.astype(str).where(ids.notna(), "")
+    blank = (text.str.strip() == "").to_numpy()
+    if blank.any():
+        row = int(np.flatnonzero(blank)[0]) + 2
+        raise InputError(f"the economy id is empty in line {row} of '{name}'", "data.id")
+    dup = text[text.duplicated()]
+    if len(dup):
+        raise InputError(f"economy '{quote(dup.iloc[0])}' appears more than once", "data.id")
+    trimmed = text.str.strip()
+    twins = trimmed[trimmed.duplicated(keep=False)]
+    if len(twins):
+        pair = [text[i] for i in twins.index[:2]]
+        raise InputError(f"economies '{quote(pair[0])}' and '{quote(pair[1])}' differ only by "
+                         "spaces at the start or end; give them distinct ids", "data.id")
+    warnings = []
+    folded = text.str.casefold()
+    same = folded[folded.duplicated(keep=False)]
+    if len(same):
+        pair = [text[i] for i in same.index[:2]]
+        warnings.append(f"data.id: economies '{quote(pair[0])}' and '{quote(pair[1])}' differ "
+                        "only in upper and lower case; check that they are different economies")
+    return pd.Index(text, name="economy"), warnings
+
+
 def load_data(spec: Spec) -> EconomyTable:
     """Read the spec's data table, check it, convert units and add canonical columns."""
     body = spec.body
@@ -115,34 +221,33 @@ def load_data(spec: Spec) -> EconomyTable:
     columns = [str(c) for c in raw.columns]
     raw.columns = columns
     if body.data.id not in raw.columns:
-        raise InputError(f"the data have no column '{body.data.id}'"
+        raise InputError(f"the data have no column '{quote(body.data.id)}'"
                          f"{did_you_mean(body.data.id, columns)}", "data.id")
-    ids = raw[body.data.id]
-    if ids.isna().any():
-        row = int(np.flatnonzero(ids.isna().to_numpy())[0]) + 2
-        raise InputError(f"the economy id is empty in line {row} of '{path.name}'", "data.id")
-    ids = ids.astype(str)
-    dup = ids[ids.duplicated()]
-    if len(dup):
-        raise InputError(f"economy '{dup.iloc[0]}' appears more than once", "data.id")
+    index, warnings = _check_ids(raw, body.data.id, path.name)
     frame = raw.copy()
-    frame.index = pd.Index(ids, name="economy")
+    frame.index = index
 
     variables = {k: v for k, v in body.data.columns.model_dump().items() if v is not None}
-    warnings: list[str] = []
+    codes = set(body.data.missing_codes)
     for var, col in variables.items():
         if col not in frame.columns:
-            raise InputError(f"the data have no column '{col}'{did_you_mean(col, columns)}",
-                             f"data.columns.{var}")
-        frame[col] = _numeric(frame[col], var, col)
+            raise InputError(f"the data have no column '{quote(col)}'"
+                             f"{did_you_mean(col, columns)}", f"data.columns.{var}")
+    for col in dict.fromkeys(variables.values()):
+        var = next(v for v, c in variables.items() if c == col)
+        values = _numeric(frame[col], var, col)
+        if codes:
+            values = values.where(~values.isin(codes))
+        _check_values(values, var, col, body.data.units, bool(codes))
+        frame[col] = values
     for var in RATE_VARIABLES:
         if var in variables:
             unit = getattr(body.data.units, var)
             warnings += _check_unit(frame[variables[var]], var, variables[var], unit)
     cluster = body.inference.cluster
     if cluster is not None and cluster not in frame.columns:
-        raise InputError(f"the data have no column '{cluster}'{did_you_mean(cluster, columns)}",
-                         "inference.cluster")
+        raise InputError(f"the data have no column '{quote(cluster)}'"
+                         f"{did_you_mean(cluster, columns)}", "inference.cluster")
 
     gd = body.assumptions.g_plus_delta
     for var, col in variables.items():
@@ -161,19 +266,64 @@ def load_data(spec: Spec) -> EconomyTable:
 
 
 def _numeric(series: pd.Series, var: str, col: str) -> pd.Series:
-    if pd.api.types.is_numeric_dtype(series) and not pd.api.types.is_bool_dtype(series):
+    if pd.api.types.is_bool_dtype(series):
+        raise InputError("holds true/false values, not numbers", f"column '{col}' "
+                         f"(data.columns.{var})")
+    if pd.api.types.is_numeric_dtype(series):
         return series.astype(float)
-    converted = pd.to_numeric(series, errors="coerce")
+    text = series.astype(str).str.strip()
+    converted = pd.to_numeric(text.where(series.notna()), errors="coerce")
     bad = converted.isna() & series.notna()
     if bad.any():
         economy = series.index[bad.to_numpy()][0]
-        raise InputError(f"economy '{economy}' has the non-numeric value {series[economy]!r}",
+        raise InputError(f"economy '{quote(economy)}' has the non-numeric value "
+                         f"{quote(repr(series[economy]))}",
                          f"column '{col}' (data.columns.{var})")
     return converted.astype(float)
 
 
+def _is_code(v: float) -> bool:
+    """Values data providers use for 'missing': -9, -99, -999, ... and 999, 9999, ..."""
+    if not float(v).is_integer() or v == 0:
+        return False
+    digits = str(int(abs(v)))
+    return set(digits) == {"9"} and (v < 0 or len(digits) >= 3)
+
+
+def _check_values(values: pd.Series, var: str, col: str, units: object,
+                  codes_declared: bool) -> None:
+    """Refuse infinite values, an all-missing column and missing-value codes."""
+    where = f"column '{col}' (data.columns.{var})"
+    inf = np.isinf(values.to_numpy())
+    if inf.any():
+        economy = values.index[inf][0]
+        raise InputError(f"economy '{quote(economy)}' has the infinite value {values[economy]}",
+                         where)
+    present = values.dropna()
+    if present.empty:
+        raise InputError("every value of the column is missing", where)
+    suspects = present[present.map(_is_code)]
+    if var in ("income", "income_start", "human_stock"):
+        # levels: a positive all-nines value is only a code when far from the others
+        median = float(present[~present.index.isin(suspects.index)].abs().median() or 1.0)
+        suspects = suspects[(suspects < 0) | (suspects > 10 * median) | (suspects < median / 10)]
+    if len(suspects):
+        economy, value = suspects.index[0], suspects.iloc[0]
+        hint = ("; it is not among data.missing_codes" if codes_declared else
+                f"; fix the value or declare data.missing_codes = [{value:g}]")
+        raise InputError(f"economy '{quote(economy)}' has the value {value:g}, which looks like a "
+                         f"missing-value code{hint}", where)
+
+
+def _economies(values: pd.Series, mask: pd.Series, limit: int = 3) -> str:
+    names = [f"'{quote(e, 30)}'" for e in values.index[mask.to_numpy()][:limit]]
+    more = int(mask.sum()) - len(names)
+    return ", ".join(names) + (f" and {more} more" if more > 0 else "")
+
+
 def _check_unit(values: pd.Series, var: str, col: str, unit: str) -> list[str]:
-    """Refuse values impossible in the declared unit; warn when they merely look odd."""
+    """Refuse values impossible in the declared unit, and columns that mix units; warn when
+    values merely look odd."""
     v = values.dropna()
     if v.empty:
         return []
@@ -181,24 +331,51 @@ def _check_unit(values: pd.Series, var: str, col: str, unit: str) -> list[str]:
     fix = f"declare data.units.{var} = \"{'percent' if unit == 'fraction' else 'fraction'}\""
     if var in _SHARE_VARS:
         if unit == "fraction" and v.max() > 1:
-            raise InputError(f"values up to {v.max():g} cannot be fractions of output; "
-                             f"they look like percent: {fix}", where)
+            return _unit_error(v, v > 1, "above 1, which cannot be a fraction of output; they "
+                               f"look like percent: {fix}", where)
+        if unit == "percent" and v.max() > 100:
+            return _unit_error(v, v > 100, "above 100 percent of output", where)
         if unit == "percent" and v.max() <= 1:
             raise InputError(f"every value is at most {v.max():g}, which as percent would mean "
                              f"almost nothing is invested; they look like fractions: {fix}",
                              where)
+        _check_mixed(v, v.abs() <= 1, where)
         if unit == "percent" and v.median() < 2:
             return [f"{where}: the median is {v.median():g} percent, low for a share of output; "
                     "check the unit"]
         return []
-    # workforce growth
+    # workforce growth: no workforce grows or shrinks by more than 20% a year
     if unit == "fraction" and v.abs().max() > 0.2:
-        raise InputError(f"values up to {v.abs().max():g} would mean more than 20% growth a year; "
-                         f"they look like percent: {fix}", where)
+        return _unit_error(v, v.abs() > 0.2, "beyond 20% a year as fractions; they look like "
+                           f"percent: {fix}", where)
+    if unit == "percent" and v.abs().max() > 20:
+        return _unit_error(v, v.abs() > 20, "beyond 20 percent a year", where)
+    if unit == "percent":
+        _check_mixed(v, v.abs() < 0.1, where)
     if unit == "percent" and v.abs().max() < 0.1:
         return [f"{where}: every value is below 0.1 percent a year; they may be fractions, "
                 "check the unit"]
     return []
+
+
+def _unit_error(v: pd.Series, mask: pd.Series, what: str, where: str) -> list[str]:
+    raise InputError(f"economy {_economies(v, mask)} has values {what}", where)
+
+
+def _check_mixed(v: pd.Series, small: pd.Series, where: str) -> None:
+    """A percent column where a group of values looks like fractions of the others.
+
+    Flagged when at least 3 values (and a tenth of the column) are that small and, times 100,
+    have a median within a factor of 4 of the other values' median: a rule of thumb (common
+    practice, no source) that leaves genuinely small percent values (0.4 percent) alone.
+    """
+    if small.all() or int(small.sum()) < max(3, len(v) // 10):
+        return
+    ratio = float(v[small].abs().median() * 100) / max(float(v[~small].abs().median()), 1e-12)
+    if 0.25 <= ratio <= 4:
+        raise InputError(f"the column mixes units: economies {_economies(v, small)} have values "
+                         "that look like fractions while the others look like percent; write "
+                         "them all in one unit", where)
 
 
 def select(table: EconomyTable, spec: Spec, sample: str, form: ModelForm) -> Selection:
@@ -236,15 +413,22 @@ def select(table: EconomyTable, spec: Spec, sample: str, form: ModelForm) -> Sel
         bad = nonpos & used
         if bad.any():
             economy = in_sample.index[bad][0]
-            what = ("n + g + delta" if var == "workforce_growth" else var)
-            value = raw[economy]
+            gd = spec.body.assumptions.g_plus_delta
+
+            def described(e: str, var: str = var, raw: pd.Series = raw,
+                          level: pd.Series = level, gd: float = gd) -> str:
+                if var != "workforce_growth":
+                    return f"{var} <= 0 (value {raw[e]:g})"
+                return (f"n + g + delta = {level[e]:.4g} <= 0 (n = {raw[e]:g} in the file, "
+                        f"g + delta = {gd:g})")
+
             if policy == "error":
                 raise InputError(
-                    f"economy '{economy}' has {what} <= 0 (value {value:g}), and its log is "
+                    f"economy '{quote(economy)}' has {described(economy)}, and its log is "
                     f"needed; fix the data or set data.non_positive = \"drop\"",
                     f"column '{col}' in sample '{sample}'")
             for e in in_sample.index[bad]:
-                dropped.append(Dropped(e, f"{what} <= 0 (value {raw[e]:g}) in '{col}'"))
+                dropped.append(Dropped(e, f"{described(e)} in '{col}'"))
         used &= ~(missing | nonpos)
     if cluster is not None:
         missing = in_sample[cluster].isna().to_numpy()

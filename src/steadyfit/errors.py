@@ -33,6 +33,10 @@ class InputError(SteadyfitError):
         super().__init__(f"{where}: {message}" if where else message)
 
 
+class Terminated(BaseException):
+    """Raised when the process receives SIGTERM, so clean-up runs before it ends."""
+
+
 class EstimationError(InputError):
     """The data cannot support the requested estimate (too few economies, collinearity)."""
 

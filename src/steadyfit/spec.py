@@ -16,7 +16,15 @@ from collections.abc import Mapping
 from pathlib import Path
 from typing import Any, Literal, get_args
 
-from pydantic import BaseModel, ConfigDict, Field, ValidationError, field_validator, model_validator
+from pydantic import (
+    BaseModel,
+    ConfigDict,
+    Field,
+    StrictBool,
+    ValidationError,
+    field_validator,
+    model_validator,
+)
 
 from . import equations
 from .errors import InputError, did_you_mean, one_of, quote
@@ -96,7 +104,7 @@ class EquationSpec(_Record):
     form: str = "levels"
     capital: tuple[str, ...] = ("physical",)
     samples: tuple[str, ...] | None = None
-    structural: bool = False
+    structural: StrictBool = False
 
     @field_validator("name")
     @classmethod
@@ -153,7 +161,7 @@ class ReportSpec(_Record):
     """How numbers are shown: decimal places, and significance marks in LaTeX tables."""
 
     digits: int = Field(3, ge=0, le=8)
-    stars: bool = False
+    stars: StrictBool = False
     figures: FigureChoice = "all"
 
 
@@ -220,8 +228,9 @@ class SpecBody(_Record):
                                  f"sample '{quote(t.sample)}'{did_you_mean(t.sample, runs_on)}")
             known = quantity_names(equations.find_form(target_eq.form, target_eq.capital))
             if t.quantity not in known:
-                raise ValueError(f"target[{i}].quantity: '{quote(t.quantity)}' is not a quantity of "
-                                 f"equation '{t.equation}'{did_you_mean(t.quantity, known)}")
+                raise ValueError(f"target[{i}].quantity: '{quote(t.quantity)}' is not a "
+                                 f"quantity of equation '{t.equation}'"
+                                 f"{did_you_mean(t.quantity, known)}")
         return self
 
 
@@ -240,7 +249,8 @@ class Spec:
 
     @property
     def stem(self) -> str:
-        return self.path.stem if self.path else "spec"
+        """The spec file's stem made safe as one folder name (``...toml`` has the stem '..')."""
+        return safe_stem(self.path.stem if self.path else "spec")
 
     @property
     def data_path(self) -> Path:
@@ -248,6 +258,13 @@ class Spec:
 
     def equation_samples(self, eq: EquationSpec) -> tuple[str, ...]:
         return eq.samples if eq.samples else tuple(self.body.samples)
+
+
+def safe_stem(stem: str) -> str:
+    """A folder name from a file stem: no separators, control characters or leading dots, so
+    it can never be '.', '..' or point outside the folder it is joined to."""
+    text = re.sub(r"[^A-Za-z0-9_.\-]+", "_", stem).lstrip(".")[:64]
+    return text or "spec"
 
 
 def load_spec(path: str | Path) -> Spec:

@@ -23,6 +23,8 @@ _STYLE: dict[Any, Any] = {
     "axes.spines.top": False,
     "axes.spines.right": False,
     "axes.titlesize": 10,
+    # economy and column names are drawn as plain text: '$' never starts mathematics
+    "text.parse_math": False,
 }
 
 

@@ -1,7 +1,13 @@
-"""Writing a run folder atomically: a temporary sibling, renamed into place at the end.
+"""Writing a run folder atomically: built in one hidden place, renamed into place at the end.
 
-An interrupted run leaves no half-written folder, and an earlier run is never
-overwritten: a run id that exists already gets a numeric suffix.
+Every run folder is first written under ``<output root>/.steadyfit-partial/``
+and renamed to ``<output root>/<spec-stem>/<run-id>/`` only when complete, so
+an interrupted run leaves nothing that looks like a run.  The writing process
+holds an exclusive lock on a file inside its temporary folder; SIGTERM and
+SIGINT remove the folder before the process ends, and a folder whose lock is
+free (its process was killed, even with SIGKILL) is removed by the next run.
+An earlier run is never overwritten: a run id that exists already gets a
+numeric suffix.
 """
 
 from __future__ import annotations
@@ -10,11 +16,12 @@ import json
 import os
 import shutil
 import sys
+import time
 from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
 
-from ..errors import InputError
+from ..errors import InputError, Terminated
 from ..findings import Findings
 from .figures import all_figures
 from .html import render_html
@@ -32,6 +39,28 @@ def new_run_id(now: datetime) -> str:
     return now.strftime("%Y%m%dT%H%M%SZ")
 
 
+def _inside(path: Path, root: Path) -> bool:
+    return path.resolve().is_relative_to(root.resolve())
+
+
+def _catch_sigterm() -> Any:
+    """Turn SIGTERM into an exception while writing (main thread only), so the temporary
+    folder is removed; returns the handler to restore."""
+    import signal
+    import threading
+
+    if threading.current_thread() is not threading.main_thread():
+        return None
+    return signal.signal(signal.SIGTERM, _raise_terminated)
+
+
+def _restore_sigterm(previous: Any) -> None:
+    import signal
+
+    if previous is not None:
+        signal.signal(signal.SIGTERM, previous)
+
+
 def _unique(root: Path, run_id: str) -> Path:
     target = root / run_id
     n = 2
@@ -39,6 +68,39 @@ def _unique(root: Path, run_id: str) -> Path:
         target = root / f"{run_id}-{n}"
         n += 1
     return target
+
+
+PARTIAL = ".steadyfit-partial"
+_LOCK = ".lock"
+
+
+def _raise_terminated(signum: int, frame: Any) -> None:
+    raise Terminated(signum)
+
+
+def remove_stale(root: Path) -> None:
+    """Remove temporary folders under ``root/.steadyfit-partial`` whose writer is gone."""
+    import fcntl
+
+    place = root / PARTIAL
+    if not place.is_dir():
+        return
+    for folder in place.iterdir():
+        lock = folder / _LOCK
+        if not lock.exists():
+            try:  # a writer makes its lock right after its folder: give it a moment
+                if time.time() - folder.stat().st_mtime < 30:
+                    continue
+            except OSError:
+                continue
+        try:
+            with lock.open("a") as fh:
+                fcntl.flock(fh, fcntl.LOCK_EX | fcntl.LOCK_NB)
+        except BlockingIOError:
+            continue  # a live run is writing it
+        except OSError:
+            pass  # no lock file: killed before it was made
+        shutil.rmtree(folder, ignore_errors=True)
 
 
 def write_run(findings: Findings, out_root: str | Path = "reports",
@@ -68,32 +130,55 @@ def write_run(findings: Findings, out_root: str | Path = "reports",
         files[f"tables/{table.key}.tex"] = render_table_latex(table, s.digits, s.stars)
     for fig in figures:
         files[f"figures/{fig.key}.svg"] = fig.svg + "\n"
+    out = Path(out_root)
     try:
-        root.mkdir(parents=True, exist_ok=True)
+        out.mkdir(parents=True, exist_ok=True)
+        remove_stale(out)
+        (out / PARTIAL).mkdir(exist_ok=True)
     except OSError as exc:
-        raise InputError(f"cannot create the output folder '{root}': {exc.strerror or exc}",
+        raise InputError(f"cannot create the output folder '{out}': {exc.strerror or exc}",
                          "output folder") from None
-    tmp = root / f".partial-{run_id}-{os.getpid()}"
+    previous = _catch_sigterm()
+    tmp = out / PARTIAL / f"{findings.spec_stem}-{run_id}-{os.getpid()}"
     try:
-        for sub in ("tables", "figures", "inputs"):
-            (tmp / sub).mkdir(parents=True)
-        for name, text in files.items():
-            (tmp / name).write_text(text, encoding="utf-8")
-        prov = findings.provenance
-        if prov.spec_path and Path(prov.spec_path).exists():
-            shutil.copyfile(prov.spec_path, tmp / "inputs" / Path(prov.spec_path).name)
-        data = Path(prov.data_path)
-        if data.exists() and data.stat().st_size <= _MAX_DATA_COPY:
-            shutil.copyfile(data, tmp / "inputs" / data.name)
-        target = _unique(root, run_id)
-        run["folder"] = target.name
-        record = to_record(findings, run)
-        (tmp / "results.json").write_text(json.dumps(record, indent=2, allow_nan=False) + "\n",
-                                          encoding="utf-8")
-        os.rename(tmp, target)
+        import fcntl
+
+        tmp.mkdir()
+        with (tmp / _LOCK).open("w") as lock:
+            fcntl.flock(lock, fcntl.LOCK_EX | fcntl.LOCK_NB)
+            for sub in ("tables", "figures", "inputs"):
+                (tmp / sub).mkdir(parents=True)
+            for name, text in files.items():
+                (tmp / name).write_text(text, encoding="utf-8")
+            prov = findings.provenance
+            if prov.spec_path and Path(prov.spec_path).exists():
+                shutil.copyfile(prov.spec_path, tmp / "inputs" / Path(prov.spec_path).name)
+            data = Path(prov.data_path)
+            if data.exists() and data.stat().st_size <= _MAX_DATA_COPY:
+                shutil.copyfile(data, tmp / "inputs" / data.name)
+            root.mkdir(parents=True, exist_ok=True)
+            target = _unique(root, run_id)
+            if target.resolve().parent != root.resolve() or not _inside(target, out):
+                raise InputError(f"the run folder '{target}' would lie outside '{out}'",
+                                 "output folder")
+            run["folder"] = target.name
+            record = to_record(findings, run)
+            (tmp / "results.json").write_text(json.dumps(record, indent=2, allow_nan=False)
+                                              + "\n", encoding="utf-8")
+            os.rename(tmp, target)  # still locked: no other run takes it for stale
+        (target / _LOCK).unlink()
     except BaseException:
         shutil.rmtree(tmp, ignore_errors=True)
         if created_root:
-            shutil.rmtree(root, ignore_errors=True)
+            try:
+                root.rmdir()  # only when empty
+            except OSError:
+                pass
         raise
+    finally:
+        _restore_sigterm(previous)
+        try:
+            (out / PARTIAL).rmdir()  # only when empty: other runs may be writing
+        except OSError:
+            pass
     return target
