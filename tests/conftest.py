@@ -61,3 +61,12 @@ def write_spec(folder: Path, text: str, name: str = "spec.toml") -> Path:
     path = folder / name
     path.write_text(text, encoding="utf-8")
     return path
+
+
+def small_data_section(file: str) -> str:
+    """The [data] tables of the small invented frames (columns economy, income_end, invest,
+    school, growth; rates in percent)."""
+    return (f'[data]\nfile = "{file}"\nid = "economy"\n\n[data.columns]\n'
+            'income = "income_end"\ninvest = "invest"\nschooling = "school"\n'
+            'workforce_growth = "growth"\n\n[data.units]\ninvest = "percent"\n'
+            'schooling = "percent"\nworkforce_growth = "percent"\n')

@@ -13,6 +13,7 @@ import pytest
 from hypothesis import HealthCheck, example, given, settings
 from hypothesis import strategies as st
 
+from conftest import small_data_section
 from steadyfit.errors import InputError
 from steadyfit.filters import parse_filter
 from steadyfit.spec import Spec, load_spec, spec_from_dict
@@ -26,21 +27,7 @@ DEEP = settings(deadline=None, max_examples=15, database=None,
 GOOD_SPEC = """\
 title = "fuzz base"
 
-[data]
-file = "economies.csv"
-id = "economy"
-
-[data.columns]
-income = "income_end"
-invest = "invest"
-schooling = "school"
-workforce_growth = "growth"
-
-[data.units]
-invest = "percent"
-schooling = "percent"
-workforce_growth = "percent"
-
+""" + small_data_section("economies.csv") + """
 [samples]
 all = ""
 

@@ -13,9 +13,9 @@ import math
 import numpy as np
 import pandas as pd
 import pytest
-from conftest import simulated_data_section, write_spec
 
 import steadyfit
+from conftest import simulated_data_section, write_spec
 from steadyfit.cli import main
 from steadyfit.report.html import render_html
 from steadyfit.report.markdown import render_markdown

@@ -14,6 +14,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
+from conftest import small_data_section
 from steadyfit.cli import main
 
 PLAIN = ["Brakmoor", "Celvane", "Dunmarsh", "Eskarrow", "Fornholt", "Glimmerby", "Harrowend",
@@ -23,21 +24,7 @@ COLUMNS = ["economy", "income_end", "invest", "school", "growth"]
 SPEC = """\
 title = "Awkward names"
 
-[data]
-file = "{data}"
-id = "economy"
-
-[data.columns]
-income = "income_end"
-invest = "invest"
-schooling = "school"
-workforce_growth = "growth"
-
-[data.units]
-invest = "percent"
-schooling = "percent"
-workforce_growth = "percent"
-
+""" + small_data_section("{data}") + """
 [[equation]]
 name = "levels_human"
 form = "levels"
