@@ -16,6 +16,7 @@ import subprocess
 import sys
 import tempfile
 import time
+import tomllib
 from pathlib import Path
 
 
@@ -98,6 +99,31 @@ def main() -> None:
     t_fig_base = _best(figure_baseline, max(1, args.repeat // 3))
     t_fig = _best(lambda: all_figures(findings), max(1, args.repeat // 3))
 
+    # the input checks (delimiter, ids, codes, units, mixed units) on a large table, against
+    # a bare pandas read of the same file
+    from steadyfit.data import load_data
+
+    big = folder / "big.csv"
+    rng = np.random.RandomState(1)
+    rows = 100_000
+    pd.DataFrame({
+        "economy": [f"E{i:06d}" for i in range(rows)],
+        "region": rng.choice(["north", "coast", "islands", "highland"], rows),
+        "resource_exporter": rng.randint(0, 2, rows),
+        "population_start": rng.uniform(1e5, 1e8, rows),
+        "output_per_worker_start": np.exp(rng.normal(8, 1, rows)),
+        "output_per_worker_end": np.exp(rng.normal(8.5, 1, rows)),
+        "investment_share": rng.uniform(5, 35, rows),
+        "secondary_enrolment": rng.uniform(1, 12, rows),
+        "schooling_index": rng.uniform(1, 20, rows),
+        "workforce_growth": rng.uniform(0.2, 3.5, rows),
+    }).to_csv(big, index=False)
+    big_spec = steadyfit.spec_from_dict(
+        {**tomllib.loads(spec.text), "data": {**tomllib.loads(spec.text)["data"],
+                                              "file": str(big)}}, folder)
+    t_read = _best(lambda: pd.read_csv(big), 3)
+    t_load = _best(lambda: load_data(big_spec), 3)
+
     def cli(argv: list[str]) -> float:
         return statistics.median(
             _timed_proc([sys.executable, *argv]) for _ in range(max(3, args.repeat // 2)))
@@ -119,6 +145,9 @@ def main() -> None:
     print(f"figures: steadyfit all_figures:                                {t_fig * 1e3:8.1f} ms"
           f"   ratio {t_fig / t_fig_base:5.2f}")
     print(f"write_run (everything rendered and written atomically):        {t_write * 1e3:8.1f} ms")
+    print(f"reading {rows:,} economies: bare pandas read_csv:               {t_read * 1e3:8.1f} ms")
+    print(f"steadyfit load_data (all input checks, canonical columns):    {t_load * 1e3:8.1f} ms"
+          f"   ratio {t_load / t_read:5.2f}")
     print(f"python -c pass: {t_python * 1e3:6.0f} ms; steadyfit --help: {t_help * 1e3:6.0f} ms"
           f"   ratio {t_help / t_python:5.2f}")
 

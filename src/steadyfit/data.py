@@ -282,12 +282,9 @@ def _numeric(series: pd.Series, var: str, col: str) -> pd.Series:
     return converted.astype(float)
 
 
-def _is_code(v: float) -> bool:
-    """Values data providers use for 'missing': -9, -99, -999, ... and 999, 9999, ..."""
-    if not float(v).is_integer() or v == 0:
-        return False
-    digits = str(int(abs(v)))
-    return set(digits) == {"9"} and (v < 0 or len(digits) >= 3)
+# Values data providers use for "missing": -9, -99, -999, ... and 999, 9999, ...
+_CODES = tuple(float(-(10**k - 1)) for k in range(1, 10)) + tuple(
+    float(10**k - 1) for k in range(3, 10))
 
 
 def _check_values(values: pd.Series, var: str, col: str, units: object,
@@ -302,7 +299,7 @@ def _check_values(values: pd.Series, var: str, col: str, units: object,
     present = values.dropna()
     if present.empty:
         raise InputError("every value of the column is missing", where)
-    suspects = present[present.map(_is_code)]
+    suspects = present[present.isin(_CODES)]
     if var in ("income", "income_start", "human_stock"):
         # levels: a positive all-nines value is only a code when far from the others
         median = float(present[~present.index.isin(suspects.index)].abs().median() or 1.0)
