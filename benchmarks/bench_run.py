@@ -133,7 +133,8 @@ def main() -> None:
 
     n_cells = len(findings.results)
     print(f"demo spec: {n_cells} equation x sample cells, {2 * n_cells} regressions")
-    print(f"baseline (read CSV + bare statsmodels fits, 3 samples x 4 fits): {t_base * 1e3:8.1f} ms")
+    base = "baseline (read CSV + bare statsmodels fits, 3 samples x 4 fits):"
+    print(f"{base} {t_base * 1e3:8.1f} ms")
     print(f"steadyfit.run (validate, samples, fits, tests, delta method):   {t_run * 1e3:8.1f} ms"
           f"   ratio {t_run / t_base:5.2f}")
     print(f"restricted OLS fit (statsmodels, HC1), growth form:           {t_ols * 1e3:8.1f} ms")
@@ -141,7 +142,8 @@ def main() -> None:
           f"   ratio {t_nls / t_ols:5.2f}")
     print(f"minimum distance, same equation:                              {t_md * 1e3:8.1f} ms"
           f"   ratio {t_md / t_ols:5.2f}")
-    print(f"figures: bare scatter + SVG save, same count:                {t_fig_base * 1e3:8.1f} ms")
+    label = "figures: bare scatter + SVG save, same count:"
+    print(f"{label:<62}{t_fig_base * 1e3:8.1f} ms")
     print(f"figures: steadyfit all_figures:                                {t_fig * 1e3:8.1f} ms"
           f"   ratio {t_fig / t_fig_base:5.2f}")
     print(f"write_run (everything rendered and written atomically):        {t_write * 1e3:8.1f} ms")
