@@ -169,18 +169,23 @@ def shares_figure(findings: Findings) -> Figure | None:
             ax.add_patch(Rectangle((v.band[0], ypos - 0.4), v.band[1] - v.band[0], 0.8,
                                    facecolor="0.88", edgecolor="none", zorder=0))
             e = v.estimate
-            if r.steady_state:
+            if e.has_se:
                 ax.errorbar(e.value, ypos, xerr=[[e.value - e.low], [e.high - e.value]],
                             fmt="o", color="black", markersize=4, capsize=3, linewidth=1)
+            elif e.has_value:
+                ax.plot([e.value], [ypos], "o", color="black", markersize=4)
+                ax.annotate("no interval (see the notes)", (e.value, ypos), fontsize=7,
+                            xytext=(5, 4), textcoords="offset points")
             else:
-                ax.text(0.5, ypos, "no steady state", ha="center", va="center", fontsize=8)
+                ax.text(0.5, ypos, e.missing, ha="center", va="center", fontsize=8)
             labels.append(f"{r.column}: {e.name}")
         ax.axvline(1.0, color="black", linestyle=":", linewidth=0.8)
         ax.set_yticks(range(len(rows)))
         ax.set_yticklabels(list(reversed(labels)))
         ax.set_ylim(-0.6, len(rows) - 0.4)
-        lo = min(0.0, *(v.estimate.low for _, v in rows))
-        hi = max(1.05, *(v.estimate.high for _, v in rows))
+        shown = [v.estimate for _, v in rows if v.estimate.has_se]
+        lo = min(0.0, *(e.low for e in shown))
+        hi = max(1.05, *(e.high for e in shown))
         ax.set_xlim(lo - 0.02, min(hi + 0.02, 2.0))
         ax.set_xlabel(f"implied share of output (point and {pct}% delta-method interval)")
         ax.set_title("Implied shares against their plausible bands (grey); dotted: share = 1")
