@@ -28,7 +28,7 @@ from collections.abc import Callable
 import numpy as np
 
 from .equations import get_form
-from .estimators import covariance_problem
+from .estimators import cluster_count, covariance_problem
 from .findings import ConsistencyCheck, EquationFindings, Settings
 from .inference import normal_estimate, z_test_of
 from .structural import numeric_jacobian
@@ -97,13 +97,14 @@ def _checks_for_pair(lv: EquationFindings, g: EquationFindings, span: float,
     joint = lv.economies == g.economies
     cross = _cross_cov(lv, g, settings.covariance) if joint else np.zeros((len(ca), len(cb)))
     cov = np.block([[lv.restricted.cov, cross], [cross.T, g.restricted.cov]])
-    clustered = settings.covariance == "cluster" and lv.observations.clusters is not None
-    n_clusters = (len(np.unique(np.asarray(lv.observations.clusters).astype(str)))
-                  if clustered else None)
-    reason = (covariance_problem(cov, n_clusters if joint else None) if joint else
-              lv.restricted.cov_problem or g.restricted.cov_problem)
-    if reason is not None:
-        reason = f"the joint covariance of the two fits is unusable: {reason}"
+    n_clusters = (cluster_count(lv.observations.clusters) if settings.covariance == "cluster"
+                  else None)
+    joint_problem = (covariance_problem(cov, n_clusters) if joint else
+                     lv.restricted.cov_problem or g.restricted.cov_problem)
+    # each form's own estimate needs only its own fit's covariance; the difference needs both
+    reasons = (lv.restricted.cov_problem, g.restricted.cov_problem,
+               None if joint_problem is None else
+               f"the joint covariance of the two fits is unusable: {joint_problem}")
     theta = np.concatenate([ca, cb])
     na = len(ca)
     lv_map, g_map = _parameters(lv, span), _parameters(g, span)
@@ -122,7 +123,7 @@ def _checks_for_pair(lv: EquationFindings, g: EquationFindings, span: float,
         if name in lv_map(ca[1:]) and name in g_map(cb[1:]):
             quantities.append((name, _pick(lv_map, name, 1, na),
                                _pick(g_map, name, na + 1, len(theta))))
-    return [_compare(lv, g, name, f_lv, f_g, theta, cov, joint, settings.confidence, reason,
+    return [_compare(lv, g, name, f_lv, f_g, theta, cov, joint, settings.confidence, reasons,
                      n_clusters)
             for name, f_lv, f_g in quantities]
 
@@ -153,21 +154,17 @@ def _mean_ngd(r: EquationFindings) -> float:
 def _compare(lv: EquationFindings, g: EquationFindings, name: str,
              f_lv: Callable[[np.ndarray], float], f_g: Callable[[np.ndarray], float],
              theta: np.ndarray, cov: np.ndarray, joint: bool, confidence: float,
-             reason: str | None, n_clusters: int | None) -> ConsistencyCheck:
+             reasons: tuple[str | None, str | None, str | None], n_clusters: int | None
+             ) -> ConsistencyCheck:
     estimates = []
 
     def difference(t: np.ndarray) -> float:
         return f_g(t) - f_lv(t)
 
-    na = len(lv.restricted.coef)
-    blocks = (slice(0, na), slice(na, len(theta)), slice(0, len(theta)))
-    for fn, block in zip((f_lv, f_g, difference), blocks, strict=True):
+    for fn, reason in zip((f_lv, f_g, difference), reasons, strict=True):
         grad = numeric_jacobian(_as_vector(fn), theta)[0]
-        # each form's own estimate only needs its own fit's covariance
-        own = reason if block.stop - block.start == len(theta) else (
-            lv.restricted.cov_problem if block.start == 0 else g.restricted.cov_problem)
         estimates.append(normal_estimate(name, fn(theta), float(grad @ cov @ grad), confidence,
-                                         reason=own))
+                                         reason=reason))
     what = "speed of convergence" if name == "lam" else name
     test = z_test_of(estimates[2], 0.0, f"z test that both forms give the same {what}",
                      f"{what} from the growth form = {what} from the levels form")

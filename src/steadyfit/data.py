@@ -12,6 +12,7 @@ import csv
 import hashlib
 from dataclasses import dataclass
 from pathlib import Path
+from typing import NoReturn
 
 import numpy as np
 import pandas as pd
@@ -238,7 +239,7 @@ def load_data(spec: Spec) -> EconomyTable:
         values = _numeric(frame[col], var, col)
         if codes:
             values = values.where(~values.isin(codes))
-        _check_values(values, var, col, body.data.units, bool(codes))
+        _check_values(values, var, col, bool(codes))
         frame[col] = values
     for var in RATE_VARIABLES:
         if var in variables:
@@ -287,8 +288,7 @@ _CODES = tuple(float(-(10**k - 1)) for k in range(1, 10)) + tuple(
     float(10**k - 1) for k in range(3, 10))
 
 
-def _check_values(values: pd.Series, var: str, col: str, units: object,
-                  codes_declared: bool) -> None:
+def _check_values(values: pd.Series, var: str, col: str, codes_declared: bool) -> None:
     """Refuse infinite values, an all-missing column and missing-value codes."""
     where = f"column '{col}' (data.columns.{var})"
     inf = np.isinf(values.to_numpy())
@@ -328,10 +328,10 @@ def _check_unit(values: pd.Series, var: str, col: str, unit: str) -> list[str]:
     fix = f"declare data.units.{var} = \"{'percent' if unit == 'fraction' else 'fraction'}\""
     if var in _SHARE_VARS:
         if unit == "fraction" and v.max() > 1:
-            return _unit_error(v, v > 1, "above 1, which cannot be a fraction of output; they "
+            _unit_error(v, v > 1, "above 1, which cannot be a fraction of output; they "
                                f"look like percent: {fix}", where)
         if unit == "percent" and v.max() > 100:
-            return _unit_error(v, v > 100, "above 100 percent of output", where)
+            _unit_error(v, v > 100, "above 100 percent of output", where)
         if unit == "percent" and v.max() <= 1:
             raise InputError(f"every value is at most {v.max():g}, which as percent would mean "
                              f"almost nothing is invested; they look like fractions: {fix}",
@@ -343,10 +343,10 @@ def _check_unit(values: pd.Series, var: str, col: str, unit: str) -> list[str]:
         return []
     # workforce growth: no workforce grows or shrinks by more than 20% a year
     if unit == "fraction" and v.abs().max() > 0.2:
-        return _unit_error(v, v.abs() > 0.2, "beyond 20% a year as fractions; they look like "
+        _unit_error(v, v.abs() > 0.2, "beyond 20% a year as fractions; they look like "
                            f"percent: {fix}", where)
     if unit == "percent" and v.abs().max() > 20:
-        return _unit_error(v, v.abs() > 20, "beyond 20 percent a year", where)
+        _unit_error(v, v.abs() > 20, "beyond 20 percent a year", where)
     if unit == "percent":
         _check_mixed(v, v.abs() < 0.1, where)
     if unit == "percent" and v.abs().max() < 0.1:
@@ -355,7 +355,7 @@ def _check_unit(values: pd.Series, var: str, col: str, unit: str) -> list[str]:
     return []
 
 
-def _unit_error(v: pd.Series, mask: pd.Series, what: str, where: str) -> list[str]:
+def _unit_error(v: pd.Series, mask: pd.Series, what: str, where: str) -> NoReturn:
     raise InputError(f"economy {_economies(v, mask)} has values {what}", where)
 
 
@@ -373,6 +373,14 @@ def _check_mixed(v: pd.Series, small: pd.Series, where: str) -> None:
         raise InputError(f"the column mixes units: economies {_economies(v, small)} have values "
                          "that look like fractions while the others look like percent; write "
                          "them all in one unit", where)
+
+
+def _non_positive(var: str, value: float, level: float, g_plus_delta: float) -> str:
+    """What is non-positive: the value itself, or n + g + delta (shown with its parts)."""
+    if var != "workforce_growth":
+        return f"{var} <= 0 (value {value:g})"
+    return (f"n + g + delta = {level:.4g} <= 0 (n = {value:g} in the file, "
+            f"g + delta = {g_plus_delta:g})")
 
 
 def select(table: EconomyTable, spec: Spec, sample: str, form: ModelForm) -> Selection:
@@ -411,21 +419,15 @@ def select(table: EconomyTable, spec: Spec, sample: str, form: ModelForm) -> Sel
         if bad.any():
             economy = in_sample.index[bad][0]
             gd = spec.body.assumptions.g_plus_delta
-
-            def described(e: str, var: str = var, raw: pd.Series = raw,
-                          level: pd.Series = level, gd: float = gd) -> str:
-                if var != "workforce_growth":
-                    return f"{var} <= 0 (value {raw[e]:g})"
-                return (f"n + g + delta = {level[e]:.4g} <= 0 (n = {raw[e]:g} in the file, "
-                        f"g + delta = {gd:g})")
-
             if policy == "error":
                 raise InputError(
-                    f"economy '{quote(economy)}' has {described(economy)}, and its log is "
+                    f"economy '{quote(economy)}' has "
+                    f"{_non_positive(var, raw[economy], level[economy], gd)}, and its log is "
                     f"needed; fix the data or set data.non_positive = \"drop\"",
                     f"column '{col}' in sample '{sample}'")
             for e in in_sample.index[bad]:
-                dropped.append(Dropped(e, f"{described(e)} in '{col}'"))
+                dropped.append(Dropped(e, f"{_non_positive(var, raw[e], level[e], gd)} in "
+                                          f"'{col}'"))
         used &= ~(missing | nonpos)
     if cluster is not None:
         missing = in_sample[cluster].isna().to_numpy()

@@ -9,6 +9,7 @@ import numpy as np
 from .data import Selection
 from .equations import ModelForm, Regressor
 from .errors import EstimationError
+from .estimators import cluster_count
 
 CONSTANT = "const"
 
@@ -102,7 +103,7 @@ def build_design(selection: Selection, form: ModelForm, equation: str) -> Design
 
 def _check_clusters(clusters: np.ndarray, form: ModelForm, where: str) -> None:
     """Refuse cluster-robust inference with fewer clusters than the parameters estimated."""
-    count = len(np.unique(clusters.astype(str)))
+    count = cluster_count(clusters) or 0
     params = form.parameters.names
     need = max(2, len(params))
     if count < need:

@@ -72,6 +72,11 @@ class Fit:
         return self.coef[1:], self.cov[1:, 1:]
 
 
+def cluster_count(clusters: np.ndarray | None) -> int | None:
+    """How many distinct clusters the labels hold (labels compared as text); None without."""
+    return None if clusters is None else len(np.unique(np.asarray(clusters).astype(str)))
+
+
 def covariance_problem(cov: np.ndarray, n_clusters: int | None = None) -> str | None:
     """Why ``cov`` cannot serve for tests and derived standard errors, or None.
 
@@ -110,7 +115,7 @@ def fit_ols(y: np.ndarray, x: np.ndarray, names: tuple[str, ...], labels: tuple[
         if clusters is None:
             raise ValueError("cluster covariance needs cluster labels")
         groups = pd.factorize(pd.Series(clusters).astype(str))[0]
-        n_clusters = int(groups.max()) + 1
+        n_clusters = cluster_count(clusters)
         res = model.fit(cov_type="cluster", cov_kwds={"groups": groups})
     elif covariance in ("HC0", "HC1", "HC2", "HC3"):
         res = model.fit(cov_type=covariance)

@@ -26,7 +26,7 @@ from scipy.special import chdtrc
 from .design import Design
 from .equations import ModelForm
 from .errors import EstimationError
-from .estimators import Fit, covariance_problem
+from .estimators import Fit, cluster_count, covariance_problem
 from .findings import Estimate, MinimumDistanceFit, NonlinearFit, TestResult
 from .inference import normal_estimate
 
@@ -94,8 +94,7 @@ def nonlinear_least_squares(design: Design, start: np.ndarray, const: float,
     classical = bread * (e @ e) / (n - k)
     robust_name = "HC1" if covariance == "classical" else covariance
     robust = _sandwich(g, e, bread, robust_name, design.clusters)
-    n_clusters = (len(np.unique(np.asarray(design.clusters).astype(str)))
-                  if robust_name == "cluster" and design.clusters is not None else None)
+    n_clusters = cluster_count(design.clusters) if robust_name == "cluster" else None
     names = form.parameters.names
     return NonlinearFit(
         estimates=_estimates(names, theta[1:], classical[1:, 1:], confidence,

@@ -9,7 +9,7 @@ shown as the number it is, with "divergence" when it is negative.
 from __future__ import annotations
 
 from ..findings import EquationFindings, Estimate, Findings, ShareVerdict, TestResult
-from .tables import format_number, problem_label
+from .tables import format_number
 
 
 def format_p(p: float) -> str:
@@ -118,5 +118,5 @@ def consistency_lines(findings: Findings) -> tuple[str, ...]:
     return tuple(out)
 
 
-__all__ = ["consistency_lines", "format_p", "p_phrase", "problem_label", "restriction_phrase",
-           "speed_phrase", "verdict_lines"]
+__all__ = ["consistency_lines", "format_p", "p_phrase", "restriction_phrase", "speed_phrase",
+           "verdict_lines"]
