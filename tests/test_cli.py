@@ -95,7 +95,7 @@ BAD = {
                               " > 3e8 and "), None, "needs at least 6 economies"),
     "collinear regressors": (("schooling = \"secondary_enrolment\"",
                               "schooling = \"investment_share\""), None,
-                             "regressor ln(s_h) is perfectly collinear"),
+                             "regressor ln(sₕ) is perfectly collinear"),
 }
 
 

@@ -111,7 +111,7 @@ def test_no_convergence_is_one_story_everywhere(tmp_path):
     text = render_text(findings)
     html = render_html(findings, (), {"id": "x", "created": "now", "command": []})
     md = render_markdown(findings)
-    shown = f"{lam.value:.4f}"
+    shown = f"{lam.value:.4f}".replace("-", "\u2212")  # a true minus sign
     for out in (text, html, md):
         assert shown in out and "divergence" in out
         assert "nan" not in out.lower().replace("nance", "")  # no NaN leaks as text

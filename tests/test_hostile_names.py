@@ -183,7 +183,7 @@ def test_other_delimiters_give_the_same_estimates(tmp_path, capsys, delimiter):
         folder = _run(spec, tmp_path / f"out-{label}", capsys)
         record = json.loads((folder / "results.json").read_text(encoding="utf-8"))
         result = record["results"][0]
-        estimates[label] = (result["quantities"]["alpha"], result["nobs"],
+        estimates[label] = (result["quantities"]["alpha"], result["observations"],
                             sorted(result["economies"]))
     if delimiter == ";":
         assert ";" in (tmp_path / "other" / "economies.csv").read_text(encoding="utf-8")

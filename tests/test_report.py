@@ -46,7 +46,7 @@ def test_results_json_holds_the_numbers_and_provenance(demo_findings, tmp_path):
     alpha = next(s for s in r["implied_shares"] if s["name"] == "alpha")
     assert alpha["value"] == ours.share("alpha").estimate.value
     assert r["restriction_tests"]["f"]["p"] == ours.f_test.pvalue
-    assert r["nobs"] == 80 and len(r["economies"]) == 80
+    assert r["observations"] == 80 and len(r["economies"]) == 80
     assert [c["name"] for c in r["unrestricted"]["coefficients"]] == [
         "const", "ln_sk", "ln_ngd", "ln_sh"]
 
@@ -78,7 +78,7 @@ def test_summary_puts_verdicts_first(demo_findings):
     assert md.index("## Verdicts") < md.index("### Implied capital shares")
     assert md.index("### Implied capital shares") < md.index("## Caveats")
     assert "g + delta is an assumption" in md
-    assert "physical_only / all (90 economies)" in md
+    assert "physical only / all (90 economies)" in md
 
 
 def test_every_table_renders(demo_findings):

@@ -24,9 +24,22 @@ _EXPORTS = {
     "write_run": ("steadyfit.report.runfolder", "write_run"),
     "InputError": ("steadyfit.errors", "InputError"),
     "FORM_KEYS": ("steadyfit.equations", "FORM_KEYS"),
+    "EstimationError": ("steadyfit.errors", "EstimationError"),
+    "Findings": ("steadyfit.findings", "Findings"),
+    "EquationFindings": ("steadyfit.findings", "EquationFindings"),
+    "Estimate": ("steadyfit.findings", "Estimate"),
+    "TestResult": ("steadyfit.findings", "TestResult"),
+    "ShareVerdict": ("steadyfit.findings", "ShareVerdict"),
+    "compare_runs": ("steadyfit.compare", "compare_runs"),
+    "render_text": ("steadyfit.report.text", "render_text"),
+    "all_tables": ("steadyfit.report.tables", "all_tables"),
 }
 
-__all__ = sorted(_EXPORTS)
+__all__ = sorted([*_EXPORTS, "__version__"])
+
+
+def __dir__() -> list[str]:
+    return sorted({*__all__, "__doc__", "__name__", "__path__", "__file__"})
 
 
 def __getattr__(name: str) -> Any:

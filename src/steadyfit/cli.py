@@ -14,12 +14,23 @@ from collections.abc import Sequence
 from pathlib import Path
 
 
+def _version() -> str:
+    from importlib import metadata
+
+    try:
+        return metadata.version("steadyfit")
+    except metadata.PackageNotFoundError:
+        return "unknown (not installed)"
+
+
 def _parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(
         prog="steadyfit",
         description="Estimate steady-state growth regressions from a TOML spec: implied "
                     "capital shares, restriction tests and plausibility verdicts.")
     p.add_argument("--debug", action="store_true", help="show tracebacks on errors")
+    p.add_argument("--version", action="version", version=f"steadyfit {_version()}",
+                   help="print steadyfit's version and exit")
     sub = p.add_subparsers(dest="command", required=True, metavar="COMMAND")
 
     run = sub.add_parser("run", help="estimate every equation on every sample of a spec")
@@ -40,7 +51,8 @@ def _parser() -> argparse.ArgumentParser:
                            "(default: ./steadyfit-demo)")
     demo.add_argument("--quiet", action="store_true", help="print only the run folder's path")
 
-    comp = sub.add_parser("compare", help="list every quantity that differs between two runs")
+    comp = sub.add_parser("compare", help="list the verdicts, settings, inputs and quantities "
+                                          "that differ between two runs")
     comp.add_argument("run_a", type=Path, help="a run folder (or its results.json)")
     comp.add_argument("run_b", type=Path, help="another run folder")
     comp.add_argument("--tolerance", type=float, default=1e-9,
@@ -48,6 +60,8 @@ def _parser() -> argparse.ArgumentParser:
                            "(default 1e-9)")
     comp.add_argument("--html", type=Path, default=None,
                       help="also write the comparison as an HTML page to this file")
+    comp.add_argument("--verdicts-only", action="store_true",
+                      help="show only the verdicts that changed (and the count line)")
     for sp in (run, check, demo, comp):
         sp.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
                         help=argparse.SUPPRESS)
@@ -57,7 +71,7 @@ def _parser() -> argparse.ArgumentParser:
 def _run(spec_path: Path, out: Path | None, quiet: bool, strict: bool = False) -> int:
     from .pipeline import default_output_root, run
     from .report.runfolder import write_run
-    from .report.text import render_text
+    from .report.text import render_text, terminal
     from .spec import load_spec
 
     spec = load_spec(spec_path)
@@ -67,9 +81,11 @@ def _run(spec_path: Path, out: Path | None, quiet: bool, strict: bool = False) -
     folder = write_run(findings, out if out is not None else default_output_root(spec),
                        command=["steadyfit", *sys.argv[1:]])
     if not quiet:
-        print(render_text(findings))
+        width, colour = terminal()
+        print(render_text(findings, width=width, colour=colour))
         print()
-        print(f"run folder: {folder}")
+        line = f"run folder: {folder}"
+        print(line if len(line) <= width else f"run folder:\n{folder}")
     else:
         print(folder)
     missed = [t for t in findings.scorecard if not t.met]
@@ -82,44 +98,54 @@ def _run(spec_path: Path, out: Path | None, quiet: bool, strict: bool = False) -
     return 0
 
 
-def _compare(a: Path, b: Path, tolerance: float, html_out: Path | None) -> int:
+def _compare(a: Path, b: Path, tolerance: float, html_out: Path | None,
+             verdicts_only: bool = False) -> int:
     from .compare import compare_runs, render_comparison_html, render_comparison_text
     from .errors import InputError
 
     comparison = compare_runs(a, b, tolerance)
-    print(render_comparison_text(comparison))
+    print(render_comparison_text(comparison, verdicts_only))
     if html_out is not None:
         if html_out.exists() and html_out.is_dir():
             raise InputError(f"'{html_out}' is a folder; give a file name", "--html")
         if not html_out.parent.exists():
             raise InputError(f"folder '{html_out.parent}' does not exist", "--html")
         tmp = html_out.with_name(f".{html_out.name}.partial")
-        tmp.write_text(render_comparison_html(comparison), encoding="utf-8")
+        tmp.write_text(render_comparison_html(comparison, verdicts_only), encoding="utf-8")
         tmp.replace(html_out)
         print(f"\ncomparison page: {html_out}")
     return 0
 
 
 def _check(spec_path: Path) -> int:
+    import textwrap
+
     from .pipeline import plan
+    from .report.text import terminal
 
     p = plan(spec_path)
-    print(f"spec '{spec_path}' is valid; data '{p.table.path.name}' has "
-          f"{p.table.n_economies} economies")
-    for w in p.table.warnings:
-        print(f"warning: {w}")
+    width = terminal()[0]
+
+    def say(text: str, indent: str = "", more: str = "") -> None:
+        print("\n".join(textwrap.wrap(text, width, initial_indent=indent,
+                                      subsequent_indent=more or indent)) or "")
+
+    say(f"spec '{spec_path}' is valid; data '{p.table.path.name}' has "
+        f"{p.table.n_economies} economies")
+    for w in (*p.spec.notices, *p.table.warnings):
+        say(w, "warning: ", "  ")
     samples = {c.selection.sample: c.selection for c in p.cells}
     print("\nsamples:")
     for name, sel in samples.items():
-        print(f"  {name}: {sel.n_in_sample} economies (filter: {sel.filter or 'all'})")
+        say(f"{name}: {sel.n_in_sample} economies (filter: {sel.filter or 'all'})", "  ", "    ")
     print("\nwould estimate:")
     for c in p.cells:
         d = c.design
         extra = " (+ nonlinear least squares)" if c.structural else ""
-        print(f"  {d.equation} [{d.form.key}] on {d.sample}: {d.nobs} economies, "
-              f"{len(c.selection.dropped)} dropped{extra}")
+        say(f"{d.equation} [{d.form.key}] on {d.sample}: {d.nobs} economies, "
+            f"{len(c.selection.dropped)} dropped{extra}", "  ", "    ")
         for drop in c.selection.dropped:
-            print(f"      - {drop.economy}: {drop.reason}")
+            say(f"{drop.economy}: {drop.reason}", "      - ", "        ")
     if p.spec.body.target:
         print(f"\n{len(p.spec.body.target)} replication targets will be checked")
     return 0
@@ -157,7 +183,8 @@ def main(argv: Sequence[str] | None = None) -> int:
         if args.command == "check":
             return _check(args.spec)
         if args.command == "compare":
-            return _compare(args.run_a, args.run_b, args.tolerance, args.html)
+            return _compare(args.run_a, args.run_b, args.tolerance, args.html,
+                            args.verdicts_only)
         return _demo(args.out, args.quiet)
     except InputError as exc:
         if args.debug:

@@ -2,7 +2,8 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from collections.abc import Mapping
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -36,6 +37,7 @@ class Design:
     x_unrestricted: np.ndarray
     x_restricted: np.ndarray
     clusters: np.ndarray | None
+    symbols: Mapping[str, str] = field(default_factory=dict)  # the spec's variable labels
 
     @property
     def names_unrestricted(self) -> tuple[str, ...]:
@@ -47,15 +49,19 @@ class Design:
 
     @property
     def labels_unrestricted(self) -> tuple[str, ...]:
-        return ("constant", *(r.label for r in self.form.unrestricted))
+        return ("constant", *(r.text(self.symbols) for r in self.form.unrestricted))
 
     @property
     def labels_restricted(self) -> tuple[str, ...]:
-        return ("constant", *(r.label for r in self.form.restricted))
+        return ("constant", *(r.text(self.symbols) for r in self.form.restricted))
 
     @property
     def restriction(self) -> np.ndarray:
         return np.array([[0.0, *self.form.restriction]])
+
+    @property
+    def restriction_text(self) -> str:
+        return self.form.restriction_text(self.symbols)
 
     @property
     def nobs(self) -> int:
@@ -76,7 +82,8 @@ def _matrix(frame_values: dict[str, np.ndarray], regs: tuple[Regressor, ...], n:
     return np.column_stack(cols)
 
 
-def build_design(selection: Selection, form: ModelForm, equation: str) -> Design:
+def build_design(selection: Selection, form: ModelForm, equation: str,
+                 symbols: Mapping[str, str] | None = None) -> Design:
     """Arrays for ``form`` on ``selection``; refuse too few economies and collinear regressors."""
     frame = selection.frame
     n = len(frame)
@@ -90,15 +97,15 @@ def build_design(selection: Selection, form: ModelForm, equation: str) -> Design
             f"coefficients and needs at least {k + 2} economies", where)
     x_u = _matrix(values, form.unrestricted, n)
     x_r = _matrix(values, form.restricted, n)
-    for x, labels in ((x_u, ("constant", *(r.label for r in form.unrestricted))),
-                      (x_r, ("constant", *(r.label for r in form.restricted)))):
-        _check_rank(x, labels, where)
+    symbols = dict(symbols or {})
+    for x, regs in ((x_u, form.unrestricted), (x_r, form.restricted)):
+        _check_rank(x, ("constant", *(r.text(symbols) for r in regs)), where)
     clusters = None
     if "_cluster" in frame.columns:
         clusters = frame["_cluster"].to_numpy()
         _check_clusters(clusters, form, where)
     return Design(equation, selection.sample, form, selection.economies,
-                  values[form.dependent], x_u, x_r, clusters)
+                  values[form.dependent], x_u, x_r, clusters, symbols)
 
 
 def _check_clusters(clusters: np.ndarray, form: ModelForm, where: str) -> None:

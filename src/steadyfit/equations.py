@@ -43,6 +43,8 @@ from functools import lru_cache
 
 import numpy as np
 
+from .labels import DELTA, MINUS, SYMBOLS
+
 Vector = np.ndarray
 VectorFn = Callable[[Vector], Vector]
 
@@ -50,13 +52,44 @@ FORM_NAMES: tuple[str, ...] = ("growth", "levels")
 CAPITAL_KINDS = ("physical", "human_rate", "human_stock")
 
 
+# canonical log column -> (model variable, how its log is written around the variable's symbol)
+TERMS: dict[str, tuple[str, str]] = {
+    "ln_y": ("income", "ln({})"),
+    "ln_y0": ("income_start", "ln({})"),
+    "ln_sk": ("invest", "ln({})"),
+    "ln_ngd": ("workforce_growth", f"ln({{}} + g + {DELTA})"),
+    "ln_sh": ("schooling", "ln({})"),
+    "ln_h": ("human_stock", "ln({})"),
+}
+
+
+def term_label(column: str, symbols: Mapping[str, str] | None = None) -> str:
+    """The log term of a canonical column, with the spec's symbol for its variable."""
+    var, pattern = TERMS[column]
+    return pattern.format((symbols or {}).get(var, SYMBOLS[var]))
+
+
 @dataclass(frozen=True)
 class Regressor:
     """A regressor as a fixed linear combination of canonical columns."""
 
     name: str
-    label: str
     weights: Mapping[str, float]
+
+    def text(self, symbols: Mapping[str, str] | None = None) -> str:
+        """How tables print the regressor ('ln(sₖ) − ln(n + g + δ)'), with the spec's
+        symbols for the variables."""
+        out = ""
+        for col, w in self.weights.items():
+            sign = MINUS if w < 0 else "+"
+            scale = "" if abs(w) == 1 else f"{abs(w):g}\u00b7"
+            out += (f"{MINUS}{scale}" if w < 0 and not out else
+                    f" {sign} {scale}" if out else scale) + term_label(col, symbols)
+        return out
+
+    @property
+    def label(self) -> str:
+        return self.text()
 
 
 @dataclass(frozen=True)
@@ -141,12 +174,13 @@ class ModelForm:
         """True for forms that estimate a speed of convergence."""
         return "lam" in self.parameters.names
 
-    @property
-    def restriction_text(self) -> str:
+    def restriction_text(self, symbols: Mapping[str, str] | None = None) -> str:
+        """The restriction as an equation in the slopes: 'slope on ln(sₖ) + slope on
+        ln(n + g + δ) = 0'."""
         if not self.restriction:
             return "none"
-        terms = [f"b[{r.label}]" for r, w in zip(self.unrestricted, self.restriction, strict=True)
-                 if w]
+        terms = [f"slope on {r.text(symbols)}"
+                 for r, w in zip(self.unrestricted, self.restriction, strict=True) if w]
         return " + ".join(terms) + " = 0"
 
     def unrestricted_from_restricted(self, c: Vector) -> Vector:
@@ -159,19 +193,19 @@ class ModelForm:
         return out
 
 
-def _reg(col: str, label: str) -> Regressor:
-    return Regressor(col, label, {col: 1.0})
+def _reg(col: str) -> Regressor:
+    return Regressor(col, {col: 1.0})
 
 
-def _minus_ngd(col: str, label: str) -> Regressor:
-    return Regressor(f"{col}_less_ln_ngd", f"{label} - ln(n+g+d)", {col: 1.0, "ln_ngd": -1.0})
+def _minus_ngd(col: str) -> Regressor:
+    return Regressor(f"{col}_less_ln_ngd", {col: 1.0, "ln_ngd": -1.0})
 
 
-LN_Y0 = _reg("ln_y0", "ln(y_0)")
-LN_SK = _reg("ln_sk", "ln(s_k)")
-LN_NGD = _reg("ln_ngd", "ln(n+g+d)")
-LN_SH = _reg("ln_sh", "ln(s_h)")
-LN_H = _reg("ln_h", "ln(h)")
+LN_Y0 = _reg("ln_y0")
+LN_SK = _reg("ln_sk")
+LN_NGD = _reg("ln_ngd")
+LN_SH = _reg("ln_sh")
+LN_H = _reg("ln_h")
 
 
 # --- building blocks: theta is 1 in the levels form, -b_0 (at position p) in the growth form --
@@ -318,8 +352,8 @@ def _build(form: str, capital: tuple[str, ...], span: float | None) -> ModelForm
     human_reg = {"human_rate": LN_SH, "human_stock": LN_H}.get(human or "")
     unres = (*lead, LN_SK, LN_NGD, *((human_reg,) if human_reg else ()))
     restricted_human = (() if human is None else
-                        (LN_H,) if stock else (_minus_ngd("ln_sh", "ln(s_h)"),))
-    res = (*lead, _minus_ngd("ln_sk", "ln(s_k)"), *restricted_human)
+                        (LN_H,) if stock else (_minus_ngd("ln_sh"),))
+    res = (*lead, _minus_ngd("ln_sk"), *restricted_human)
     restriction = (*((0.0,) if growth else ()), 1.0, 1.0,
                    *(() if human is None else (0.0 if stock else 1.0,)))
     names = ("alpha",) if human is None else ("alpha", "beta")

@@ -43,6 +43,11 @@ class Fit:
     n_clusters: int | None = None
     cov_problem: str | None = None  # why the covariance cannot support tests (singular ...)
 
+    def __repr__(self) -> str:
+        clusters = f", {self.n_clusters} clusters" if self.n_clusters is not None else ""
+        return (f"Fit(OLS, {self.covariance} covariance{clusters}, {self.nobs} observations, "
+                f"{len(self.names)} coefficients, R\u00b2 {self.rsquared:.3f})")
+
     @property
     def se(self) -> np.ndarray:
         return np.sqrt(np.diag(self.cov))

@@ -14,8 +14,9 @@ Grammar (keywords are lower case)::
     literal    := NUMBER | STRING | "true" | "false"
     OP         := "==" | "!=" | "<" | "<=" | ">" | ">="
 
-A ``NAME`` is a column: letters, digits, ``_`` and ``.``, or any text in
-backticks.  Strings use single or double quotes.  An empty filter selects
+A ``NAME`` is a column: letters, digits, ``_`` and ``.``, or any other column
+name in braces (``{population 1960}``); backticks are still read the same way
+for now, with a notice (see ``spec.Spec.notices``).  Strings use single or double quotes.  An empty filter selects
 every economy.
 """
 
@@ -34,7 +35,7 @@ _TOKEN = re.compile(
     r"""\s*(?:
         (?P<number>[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)
       | (?P<string>"[^"]*"|'[^']*')
-      | (?P<quoted>`[^`]+`)
+      | (?P<quoted>\{[^{}]+\}|`[^`]+`)
       | (?P<op>==|!=|<=|>=|<|>)
       | (?P<punct>[()\[\],])
       | (?P<name>[A-Za-z_][A-Za-z0-9_.]*)

@@ -14,6 +14,7 @@ import pandas as pd
 
 from .data import Dropped
 from .estimators import CovarianceName, Fit
+from .labels import DisplayLabels, display
 
 BandStatus = Literal["inside", "overlaps", "outside"]
 
@@ -57,6 +58,11 @@ class TestResult:
         return (f"{self.name}: {dist} statistic {self.statistic:.4g}, p-value {self.pvalue:.4g} "
                 f"(null: {self.null})")
 
+    def __repr__(self) -> str:
+        if self.reason is not None:
+            return f"TestResult({self.name}: not available)"
+        return f"TestResult({self.name}: {self.statistic:.4g}, p = {self.pvalue:.3g})"
+
 
 @dataclass(frozen=True)
 class Estimate:
@@ -94,6 +100,16 @@ class Estimate:
     def has_se(self) -> bool:
         return self.has_value and math.isfinite(self.se)
 
+    def __repr__(self) -> str:
+        return f"Estimate({_short(self)})"
+
+
+def _short(e: Estimate) -> str:
+    """'alpha = 0.342 (s.e. 0.029)', or 'half_life: none'."""
+    if not e.has_value:
+        return f"{e.name}: {e.missing}"
+    return f"{e.name} = {e.value:.4g}" + (f" (s.e. {e.se:.3g})" if e.has_se else "")
+
 
 @dataclass(frozen=True)
 class ShareVerdict:
@@ -110,6 +126,11 @@ class ShareVerdict:
     def name(self) -> str:
         return self.estimate.name
 
+    def __repr__(self) -> str:
+        band = f", band {self.band[0]:g} to {self.band[1]:g}" if self.band else ""
+        status = f": {self.band_status}" if self.band_status else ""
+        return f"ShareVerdict({_short(self.estimate)}{band}{status})"
+
 
 @dataclass(frozen=True)
 class CrossCheckResult:
@@ -120,6 +141,9 @@ class CrossCheckResult:
     from_growth: Estimate
     gap: Estimate
     test: TestResult
+
+    def __repr__(self) -> str:
+        return f"CrossCheckResult({self.quantity}: gap {_short(self.gap)}, {self.test!r})"
 
 
 @dataclass(frozen=True)
@@ -137,6 +161,10 @@ class NonlinearFit:
         return next((e for e in (self.robust if robust else self.estimates) if e.name == name),
                     None)
 
+    def __repr__(self) -> str:
+        return (f"NonlinearFit({', '.join(_short(e) for e in self.estimates)}; "
+                f"{self.evaluations} evaluations)")
+
 
 @dataclass(frozen=True)
 class MinimumDistanceFit:
@@ -149,6 +177,11 @@ class MinimumDistanceFit:
 
     def estimate(self, name: str) -> Estimate | None:
         return next((e for e in self.estimates if e.name == name), None)
+
+    def __repr__(self) -> str:
+        if self.reason is not None:
+            return "MinimumDistanceFit(not available)"
+        return f"MinimumDistanceFit({', '.join(_short(e) for e in self.estimates)})"
 
 
 @dataclass(frozen=True)
@@ -165,6 +198,9 @@ class Observations:
     x: np.ndarray
     x_restricted: np.ndarray
     clusters: np.ndarray | None = None  # cluster labels under cluster-robust covariance
+
+    def __repr__(self) -> str:
+        return f"Observations({len(self.economies)} economies, {self.x.shape[1] - 1} regressors)"
 
 
 @dataclass(frozen=True)
@@ -193,6 +229,8 @@ class EquationFindings:
     notes: tuple[str, ...] = ()
     minimum_distance: MinimumDistanceFit | None = None
     nonlinear: NonlinearFit | None = None
+    equation_label: str | None = None  # display labels from the spec's [labels]
+    sample_label: str | None = None
 
     @property
     def steady_state(self) -> bool:
@@ -208,10 +246,29 @@ class EquationFindings:
 
     @property
     def column(self) -> str:
+        """Identifiers of the equation and sample, as messages and notes name them."""
         return f"{self.equation} / {self.sample}"
+
+    @property
+    def heading(self) -> str:
+        """The equation and sample as tables, figures and captions show them: the spec's
+        display labels, else the identifiers with underscores read as spaces."""
+        return (f"{self.equation_label or display(self.equation)} / "
+                f"{self.sample_label or display(self.sample)}")
 
     def share(self, name: str) -> ShareVerdict | None:
         return next((s for s in self.shares if s.name == name), None)
+
+    def __repr__(self) -> str:
+        parts = [f"{self.column} [{self.form_key}], {self.nobs} economies"]
+        if self.f_test is not None:
+            parts.append("restriction " + (f"p = {self.f_test.pvalue:.3g}"
+                                           if self.f_test.available else "not testable"))
+        parts += [_short(v.estimate) for v in self.shares]
+        lam = self.speed_estimate("lam")
+        if lam is not None:
+            parts.append(_short(lam))
+        return f"EquationFindings({'; '.join(parts)})"
 
 
 @dataclass(frozen=True)
@@ -228,6 +285,10 @@ class ConsistencyCheck:
     test: TestResult
     joint_covariance: bool  # False: the two fits were treated as independent
     n_clusters: int | None = None
+
+    def __repr__(self) -> str:
+        return (f"ConsistencyCheck({self.levels_equation} vs {self.growth_equation} on "
+                f"{self.sample}: {self.quantity}, {self.test!r})")
 
 
 @dataclass(frozen=True)
@@ -275,8 +336,15 @@ class Settings:
     non_positive: str
     max_evaluations: int = 2000
     digits: int = 3
-    stars: bool = False
+    significance_marks: bool = False
+    figure_formats: tuple[str, ...] = ("svg", "pdf")
+    latex_max_columns: int | None = None
+    latex_landscape: bool = False
     figures: str = "all"  # "all", "key" (share chart and convergence plots) or "none"
+
+    @property
+    def stars(self) -> bool:  # TODO(lead): remove once record.py and runfolder.py use the new name
+        return self.significance_marks
 
 
 @dataclass(frozen=True)
@@ -303,10 +371,19 @@ class Findings:
     caveats: tuple[str, ...] = field(default=())
     scorecard: tuple[TargetCheck, ...] = ()
     consistency: tuple[ConsistencyCheck, ...] = ()
+    labels: DisplayLabels = field(default_factory=DisplayLabels)
 
     @property
     def targets_met(self) -> bool:
         return all(t.met for t in self.scorecard)
+
+    def __repr__(self) -> str:
+        cells = len(self.results)
+        return (f"Findings({self.title!r}: {cells} equation x sample result"
+                f"{'s' if cells != 1 else ''} on {len(self.samples)} samples, "
+                f"{len(self.consistency)} levels-versus-growth checks, "
+                f"{sum(t.met for t in self.scorecard)} of {len(self.scorecard)} targets met; "
+                "print() it for the key results)")
 
     def result(self, equation: str, sample: str) -> EquationFindings:
         for r in self.results:

@@ -119,7 +119,7 @@ def restriction_tests(design: Design, unrestricted: Fit, restricted: Fit
         return None, None
     r = design.restriction
     q = r.shape[0]
-    null = design.form.restriction_text
+    null = design.restriction_text
     df_resid = unrestricted.df_resid
     f_name = "F test of the restriction"
     with np.errstate(all="ignore"):

@@ -31,6 +31,7 @@ from .findings import (
     TargetCheck,
 )
 from .inference import implied_parameters, restriction_tests, unrestricted_shares
+from .labels import DisplayLabels
 from .quantities import quantities, unavailable
 from .spec import Spec, load_spec
 from .structural import minimum_distance, nonlinear_least_squares
@@ -67,8 +68,8 @@ def plan(spec: Spec | str | Path) -> Plan:
         form = equations.find_form(eq.form, eq.capital, spec.body.assumptions.span_years)
         for sample in spec.equation_samples(eq):
             selection = select(table, spec, sample, form)
-            cells.append(PlannedCell(selection, build_design(selection, form, eq.name),
-                                     eq.structural))
+            design = build_design(selection, form, eq.name, spec.body.labels.variables)
+            cells.append(PlannedCell(selection, design, eq.structural))
     return Plan(spec, table, tuple(cells))
 
 
@@ -85,7 +86,10 @@ def settings_of(spec: Spec) -> Settings:
         non_positive=b.data.non_positive,
         max_evaluations=b.inference.max_evaluations,
         digits=b.report.digits,
-        stars=b.report.stars,
+        significance_marks=b.report.significance_marks,
+        figure_formats=b.report.figure_formats,
+        latex_max_columns=b.report.latex_max_columns,
+        latex_landscape=b.report.latex_landscape,
         figures=b.report.figures,
     )
 
@@ -145,7 +149,7 @@ def _estimate_cell(cell: PlannedCell, settings: Settings) -> EquationFindings:
                                           settings.confidence, settings.max_evaluations)
     return EquationFindings(
         equation=d.equation, sample=d.sample, form_key=d.form.key,
-        description=d.form.description, restriction_text=d.form.restriction_text,
+        description=d.form.description, restriction_text=d.restriction_text,
         economies=d.economies, dropped=cell.selection.dropped,
         n_in_sample=cell.selection.n_in_sample, dependent_label=d.form.dependent_label,
         unrestricted=unres, restricted=res, f_test=f_test, wald_test=wald, shares=shares,
@@ -200,7 +204,11 @@ def run(spec: Spec | str | Path) -> Findings:
     """
     p = plan(spec)
     settings = settings_of(p.spec)
-    results = tuple(estimate_cell(cell, settings) for cell in p.cells)
+    labels = DisplayLabels(p.spec.body.labels.equations, p.spec.body.labels.samples)
+    results = tuple(replace(estimate_cell(cell, settings),
+                            equation_label=labels.equations.get(cell.design.equation),
+                            sample_label=labels.samples.get(cell.design.sample))
+                    for cell in p.cells)
     seen: dict[str, SampleSummary] = {}
     for cell in p.cells:
         sel = cell.selection
@@ -222,7 +230,7 @@ def run(spec: Spec | str | Path) -> Findings:
     with warnings.catch_warnings(record=True) as caught, np.errstate(all="warn"):
         warnings.simplefilter("always")
         checks = consistency_checks(results, settings)
-    run_warnings = list(p.table.warnings)
+    run_warnings = [*p.spec.notices, *p.table.warnings]
     run_warnings += numerical_notes(caught, "comparing the levels and growth forms")
     few = sorted({(r.unrestricted.n_clusters, r.column) for r in results
                   if r.unrestricted.n_clusters is not None
@@ -243,6 +251,7 @@ def run(spec: Spec | str | Path) -> Findings:
         caveats=caveats(p.spec, p.table),
         scorecard=scorecard,
         consistency=checks,
+        labels=labels,
     )
 
 

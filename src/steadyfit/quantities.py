@@ -8,9 +8,11 @@ same way:
 ``se:<regressor>``     its standard error
 ``restricted_coef:``   restricted coefficient (``restricted_coef:ln_sk_less_ln_ngd``)
 ``restricted_se:``     its standard error
-``nobs``               observations
-``r2``, ``adj_r2``     (adjusted) R^2 of the unrestricted fit; ``restricted_adj_r2``
-``ser``                standard error of the unrestricted regression
+``observations``       economies in the estimation
+``r_squared``          R² of the unrestricted fit; ``adjusted_r_squared`` adjusted,
+                       ``restricted_adjusted_r_squared`` that of the restricted fit
+``residual_sd``        standard deviation of the unrestricted fit's residuals
+                       (``restricted_residual_sd``)
 ``restriction_f``      F statistic of the restriction; ``restriction_p`` its p-value
 ``restriction_wald``   Wald statistic; ``restriction_wald_p`` its p-value
 ``<share>``            implied share from the restricted fit (``alpha``, ``beta``,
@@ -24,6 +26,10 @@ same way:
                        ``md_overid_p`` the over-identification test
 ``nls_<p>``            nonlinear least squares (``_se`` classical, ``_robust_se``)
 =====================  ==========================================================
+
+Targets may also use the names the tables print (``lambda``, ``λ``, ``half-life``,
+``α``, ``β``) and the names of format 2 (``nobs``, ``r2``, ``adj_r2``, ``ser``);
+:func:`canonical` maps them.
 """
 
 from __future__ import annotations
@@ -39,6 +45,30 @@ if TYPE_CHECKING:
 CONSTANT = "const"
 
 
+# other spellings of quantity names: as tables print them, and the names of results.json
+# format 2
+ALIASES = {"lambda": "lam", "\u03bb": "lam", "half-life": "half_life",
+           "\u03b1": "alpha", "\u03b2": "beta", "\u03b1+\u03b2": "alpha+beta",
+           "nobs": "observations", "r2": "r_squared", "adj_r2": "adjusted_r_squared",
+           "ser": "residual_sd", "restricted_adj_r2": "restricted_adjusted_r_squared",
+           "restricted_ser": "restricted_residual_sd"}
+
+
+def canonical(name: str) -> str:
+    """The quantity name for ``name`` written as the tables print it or in an old spelling
+    (``lambda_se`` -> ``lam_se``, ``α + β`` -> ``alpha+beta``, ``nobs`` -> ``observations``)."""
+    text = name.strip().replace(" ", "")
+    if text in ALIASES:
+        return ALIASES[text]
+    for alias, real in sorted(ALIASES.items(), key=lambda kv: -len(kv[0])):
+        for sep in ("_", ":"):
+            if text.startswith(alias + sep):
+                return real + text[len(alias):]
+            if sep == "_" and text.endswith(sep + alias):  # unrestricted_lambda
+                return text[: -len(alias)] + real
+    return text
+
+
 def quantity_names(form: ModelForm) -> tuple[str, ...]:
     """Every quantity name a result of ``form`` carries (for validating targets early)."""
     unres = (CONSTANT, *(r.name for r in form.unrestricted))
@@ -50,7 +80,8 @@ def quantity_names(form: ModelForm) -> tuple[str, ...]:
         params += ["lam", "half_life"]
     names = [f"{k}:{n}" for n in unres for k in ("coef", "se")]
     names += [f"{k}:{n}" for n in res for k in ("restricted_coef", "restricted_se")]
-    names += ["nobs", "r2", "adj_r2", "ser", "restricted_adj_r2", "restricted_ser"]
+    names += ["observations", "r_squared", "adjusted_r_squared", "residual_sd",
+              "restricted_adjusted_r_squared", "restricted_residual_sd"]
     if form.restricts:
         names += ["restriction_f", "restriction_p", "restriction_wald", "restriction_wald_p"]
     names += [f"{s}{suffix}" for s in params for suffix in ("", "_se", "_low", "_high")]
@@ -100,9 +131,11 @@ def _collect(r: EquationFindings) -> tuple[dict[str, float | None], dict[str, st
         for name, b, s in zip(fit.names, fit.coef, fit.se, strict=True):
             put(f"{coef}:{name}", b)
             put(f"{se}:{name}", s, "the coefficient's variance is not finite")
-    put("nobs", float(u.nobs))
-    for name, value in (("r2", u.rsquared), ("adj_r2", u.rsquared_adj), ("ser", u.ser),
-                        ("restricted_adj_r2", re.rsquared_adj), ("restricted_ser", re.ser)):
+    put("observations", float(u.nobs))
+    for name, value in (("r_squared", u.rsquared), ("adjusted_r_squared", u.rsquared_adj),
+                        ("residual_sd", u.ser),
+                        ("restricted_adjusted_r_squared", re.rsquared_adj),
+                        ("restricted_residual_sd", re.ser)):
         put(name, value)
     for prefix, t in (("restriction_f", r.f_test), ("restriction_wald", r.wald_test)):
         if t is not None:

@@ -29,11 +29,12 @@ from pydantic import (
 from . import equations
 from .errors import InputError, did_you_mean, one_of, quote
 from .estimators import CovarianceName
-from .quantities import quantity_names
+from .quantities import canonical, quantity_names
 
 Unit = Literal["percent", "fraction"]
 NonPositive = Literal["error", "drop"]
 FigureChoice = Literal["all", "key", "none"]
+FigureFormat = Literal["svg", "pdf"]
 RATE_VARIABLES = ("invest", "schooling", "workforce_growth")
 # Names become file names in run folders: a letter first, then letters, digits, _ and -, so
 # none can be '.', '..', absolute or hold a separator.
@@ -158,11 +159,36 @@ class OutputSpec(_Record):
 
 
 class ReportSpec(_Record):
-    """How numbers are shown: decimal places, and significance marks in LaTeX tables."""
+    """How results are shown: decimal places, significance marks in LaTeX tables, figures,
+    and how LaTeX tables are laid out."""
 
     digits: int = Field(3, ge=0, le=8)
-    stars: StrictBool = False
+    significance_marks: StrictBool = False
     figures: FigureChoice = "all"
+    figure_formats: tuple[FigureFormat, ...] = Field(("svg", "pdf"), min_length=1)
+    latex_max_columns: int | None = Field(None, ge=1, le=20)
+    latex_landscape: StrictBool = False
+
+
+_LABEL_TEXT = 80  # longest display label (characters)
+
+
+class LabelSpec(_Record):
+    """Display labels: what tables, figures and verdicts show instead of identifiers."""
+
+    equations: dict[str, str] = Field(default_factory=dict)
+    samples: dict[str, str] = Field(default_factory=dict)
+    variables: dict[str, str] = Field(default_factory=dict)
+
+    @field_validator("equations", "samples", "variables")
+    @classmethod
+    def _label_text(cls, v: dict[str, str]) -> dict[str, str]:
+        for key, text in v.items():
+            if not text.strip() or len(text) > _LABEL_TEXT or any(
+                    ord(ch) < 32 for ch in text):
+                raise ValueError(f"the label of '{quote(key)}' must be one line of 1 to "
+                                 f"{_LABEL_TEXT} characters")
+        return v
 
 
 class TargetSpec(_Record):
@@ -175,6 +201,11 @@ class TargetSpec(_Record):
     tolerance: float = Field(gt=0)
     source: str = ""
 
+    @field_validator("quantity")
+    @classmethod
+    def _canonical(cls, v: str) -> str:
+        return canonical(v)
+
 
 class SpecBody(_Record):
     title: str = "steadyfit run"
@@ -186,6 +217,7 @@ class SpecBody(_Record):
     plausible: PlausibleSpec = Field(default_factory=PlausibleSpec)
     output: OutputSpec = Field(default_factory=OutputSpec)
     report: ReportSpec = Field(default_factory=ReportSpec)
+    labels: LabelSpec = Field(default_factory=LabelSpec)
     target: tuple[TargetSpec, ...] = ()
 
     @field_validator("samples")
@@ -217,6 +249,7 @@ class SpecBody(_Record):
             if form.needs_span and self.assumptions.span_years is None:
                 raise ValueError(f"equation[{i}]: form '{form.key}' needs assumptions.span_years")
         equations_by_name = {e.name: e for e in self.equation}
+        self._check_labels(equations_by_name)
         for i, t in enumerate(self.target, 1):
             target_eq = equations_by_name.get(t.equation)
             if target_eq is None:
@@ -234,11 +267,23 @@ class SpecBody(_Record):
         return self
 
 
+    def _check_labels(self, equations_by_name: dict[str, EquationSpec]) -> None:
+        variables = [k for k, v in self.data.columns.model_dump().items() if v is not None]
+        for section, known in (("equations", equations_by_name), ("samples", self.samples),
+                               ("variables", variables)):
+            for key in getattr(self.labels, section):
+                if key not in known:
+                    raise ValueError(f"labels.{section}: '{quote(key)}' is not one of the "
+                                     f"{section} of this spec{did_you_mean(key, known)}")
+
+
 class Spec:
     """A validated spec with its origin (file, folder for relative paths, hash)."""
 
-    def __init__(self, body: SpecBody, base_dir: Path, path: Path | None, text: str) -> None:
+    def __init__(self, body: SpecBody, base_dir: Path, path: Path | None, text: str,
+                 notices: tuple[str, ...] = ()) -> None:
         self.body = body
+        self.notices = notices  # renamed keys and old syntax still accepted
         self.base_dir = base_dir
         self.path = path
         self.text = text
@@ -321,6 +366,7 @@ def _validate(raw: dict[str, Any], base_dir: Path, path: Path | None, text: str)
     if deep is not None:
         where = f"{path.name}" if path is not None else "spec"
         raise InputError(f"values are nested more than {MAX_DEPTH} levels deep", f"{where}: {deep}")
+    raw, notices = _renamed_keys(raw)
     try:
         body = SpecBody.model_validate(raw)
     except ValidationError as exc:
@@ -335,7 +381,26 @@ def _validate(raw: dict[str, Any], base_dir: Path, path: Path | None, text: str)
         if line:
             prefix += f" line {line}"
         raise InputError(message, f"{prefix}: {where}" if where else prefix) from None
-    return Spec(body, base_dir, path, text)
+    notices += [f"samples.{name}: a column name in backticks is read as before, but backticks "
+                "will stop working in a later release; write {column name} instead"
+                for name, text in body.samples.items() if "`" in text]
+    return Spec(body, base_dir, path, text, tuple(notices))
+
+
+# Keys renamed in this release: the old name still works, with a notice.
+_RENAMED = {("report", "stars"): "significance_marks"}
+
+
+def _renamed_keys(raw: dict[str, Any]) -> tuple[dict[str, Any], list[str]]:
+    notices = []
+    for (section, old), new in _RENAMED.items():
+        table = raw.get(section)
+        if isinstance(table, Mapping) and old in table and new not in table:
+            table = {(new if k == old else k): v for k, v in table.items()}
+            raw = {**raw, section: table}
+            notices.append(f"{section}.{old} is now called {section}.{new}; the old name works "
+                           "in this release and will be removed in a later one")
+    return raw, notices
 
 
 def _message(err: Mapping[str, Any], loc: tuple[Any, ...]) -> tuple[str, tuple[Any, ...]]:

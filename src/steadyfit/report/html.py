@@ -7,18 +7,25 @@ from dataclasses import dataclass
 from typing import Any
 
 from ..findings import EquationFindings, Findings, TestResult
+from ..labels import quantity_label
 from .figures import Figure
 from .tables import (
     Table,
-    all_tables,
+    combined_table,
     compact_table,
+    consistency_table,
+    crosscheck_table,
+    dropped_table,
+    families,
     format_cell,
     format_number,
+    samples_table,
     scorecard_table,
     share_status,
     shares_table,
+    structural_table,
 )
-from .verdicts import consistency_lines, format_p, speed_phrase, verdict_lines
+from .verdicts import conclusion, format_p, speed_phrase, verdict_lines
 
 
 def render_table_html(table: Table, digits: int = 3) -> str:
@@ -99,7 +106,7 @@ def _verdict(r: EquationFindings, level: float, digits: int) -> Verdict:
             interval = (f"{format_number(e.low, digits)} to {format_number(e.high, digits)}"
                         if e.has_se else "no interval")
         lines.append(ShareLine(
-            e.name, value, interval,
+            quantity_label(e.name), value, interval,
             f"{format_number(v.band[0], 2)} to {format_number(v.band[1], 2)}" if v.band else "",
             share_status(v, r),
             _p_text(v.point_test) if v.point_test else "",
@@ -111,9 +118,22 @@ def _verdict(r: EquationFindings, level: float, digits: int) -> Verdict:
         rejects = f.rejects(level)
         outcome = ("not available" if rejects is None else
                    "rejected" if rejects else "not rejected")
-    return Verdict(r.column, r.nobs, r.unrestricted.n_clusters, r.restriction_text, outcome,
+    return Verdict(r.heading, r.nobs, r.unrestricted.n_clusters, r.restriction_text, outcome,
                    _p_text(f), _p_text(w), f.reason if f is not None else None, r.problem,
                    tuple(lines), speed_phrase(lam, half) if lam and half else None, r.notes)
+
+
+def report_tables(findings: Findings) -> list[Table]:
+    """The tables of the HTML report's table section, each coefficient shown once: implied
+    shares, then per form the unrestricted and restricted fits side by side, then the
+    unrestricted cross-check and the structural estimates."""
+    out = [shares_table(findings)]
+    out += [combined_table(findings, res, suffix, title)
+            for suffix, title, res in families(findings)]
+    if any(r.crosscheck for r in findings.results):
+        out.append(crosscheck_table(findings))
+    structural = structural_table(findings)
+    return out + ([structural] if structural else [])
 
 
 def render_html_fragment(findings: Findings) -> str:
@@ -144,11 +164,11 @@ def render_html(findings: Findings, figures: tuple[Figure, ...], run: dict[str, 
     s = findings.settings
     digits = s.digits
     level = 1 - s.confidence
-    tables = [markupsafe.Markup(render_table_html(t, digits)) for t in all_tables(findings)
-              if t.key not in ("samples", "dropped_economies")]
-    appendix = [markupsafe.Markup(render_table_html(t, digits)) for t in all_tables(findings)
-                if t.key in ("samples", "dropped_economies")]
+    tables = [markupsafe.Markup(render_table_html(t, digits)) for t in report_tables(findings)]
+    appendix = [markupsafe.Markup(render_table_html(t, digits))
+                for t in (samples_table(findings), dropped_table(findings))]
     card = scorecard_table(findings)
+    checks = consistency_table(findings)
     return str(_environment().get_template("report.html.j2").render(
         findings=findings,
         settings=s,
@@ -157,12 +177,13 @@ def render_html(findings: Findings, figures: tuple[Figure, ...], run: dict[str, 
         conf_pct=f"{s.confidence:.0%}",
         verdicts=[_verdict(r, level, digits) for r in findings.results],
         verdict_text=verdict_lines(findings),
-        consistency=consistency_lines(findings),
+        consistency=markupsafe.Markup(render_table_html(checks, digits)) if checks else None,
+        conclusion=conclusion(findings),
         key_table=markupsafe.Markup(render_table_html(compact_table(findings), digits)),
         scorecard=markupsafe.Markup(render_table_html(card, digits)) if card else None,
         targets_met=findings.targets_met,
         tables=tables,
         appendix=appendix,
         figures=[(f, markupsafe.Markup(f.svg)) for f in figures],
-        economies=[(r.column, ", ".join(r.economies)) for r in findings.results],
+        economies=[(r.heading, ", ".join(r.economies)) for r in findings.results],
     ))

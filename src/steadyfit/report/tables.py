@@ -1,115 +1,39 @@
-"""One table model shared by every renderer, and the builders that fill it from findings.
+"""Builders that fill the table model (:mod:`steadyfit.report.model`) from findings.
 
 Builders read :class:`~steadyfit.findings.Findings` only.  A renderer (text,
-Markdown, and later HTML and LaTeX) turns a :class:`Table` into its format and
-never looks at findings itself.
+Markdown, HTML, LaTeX) turns a :class:`Table` into its format and never looks
+at findings itself.  The model's names are re-exported here.
 """
 
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
-from typing import Literal, cast
+from dataclasses import replace
 
-from ..findings import EquationFindings, Estimate, Findings, ShareVerdict, TestResult
+from ..estimators import Fit
+from ..findings import EquationFindings, Findings, ShareVerdict
+from ..labels import ALPHA, BETA, CHI2, DELTA, LAMBDA, MINUS, NGD, R2, quantity_label, test_display
+from .model import (
+    EXTRA_DIGITS,
+    NOT_AVAILABLE,
+    PLACEHOLDER,
+    UNBOUNDED,
+    Cell,
+    CellKind,
+    Reasons,
+    Row,
+    Table,
+    estimate_cell,
+    format_cell,
+    format_number,
+    test_cell,
+)
 
-CellKind = Literal["number", "integer", "pvalue", "text", "interval", "empty"]
+# The standard deviation of the residuals, as the fit rows name it.
+RESIDUAL_SD = "residual standard deviation"
 
-
-@dataclass(frozen=True)
-class Cell:
-    """A value and how to show it; ``se`` goes in parentheses on the line below."""
-
-    kind: CellKind
-    value: object = None
-    se: float | None = None
-    p: float | None = None  # p-value of a coefficient, for optional significance marks
-    extra_digits: int = 0  # more (or, negative, fewer) decimals than the table's
-    remark: str | None = None  # a word after the value ("divergence")
-
-    @staticmethod
-    def empty() -> Cell:
-        return Cell("empty")
-
-
-@dataclass(frozen=True)
-class Row:
-    label: str
-    cells: tuple[Cell, ...]
-    section: str | None = None  # a heading shown above the first row of a section
-
-
-@dataclass(frozen=True)
-class Table:
-    """A table: column headers (one tuple of header levels per column), rows, notes."""
-
-    key: str
-    title: str
-    stub: str
-    columns: tuple[tuple[str, ...], ...]
-    rows: tuple[Row, ...]
-    notes: tuple[str, ...] = ()
-    digits: int | None = None  # overrides the run's decimal places for this table
-
-    def places(self, default: int) -> int:
-        return self.digits if self.digits is not None else default
-
-    def __str__(self) -> str:
-        from .text import render_table_text
-
-        return render_table_text(self)
-
-    def _repr_html_(self) -> str:
-        from .html import render_table_html
-
-        return render_table_html(self)
-
-    def text_columns(self) -> tuple[bool, ...]:
-        """Per column: True when every cell is text (renderers align those to the left)."""
-        return tuple(all(r.cells[j].kind in ("text", "empty") for r in self.rows)
-                     for j in range(len(self.columns)))
-
-
-# Shown for a number that is not available; the table's notes give the reason.
-NOT_AVAILABLE = "n/a"
-UNBOUNDED = "unbounded"
-
-
-def format_number(x: float, digits: int = 3) -> str:
-    if x is None or (isinstance(x, float) and math.isnan(x)):
-        return ""
-    if isinstance(x, float) and math.isinf(x):
-        return UNBOUNDED
-    text = f"{x:.{digits}f}"
-    return "0." + "0" * digits if text == "-0." + "0" * digits else text
-
-
-def format_cell(cell: Cell, digits: int = 3) -> tuple[str, str | None]:
-    """Text of a cell and of its standard-error line (None when it has none)."""
-    digits = max(0, digits + cell.extra_digits)
-    se = None
-    if cell.se is not None:
-        se = f"({format_number(cell.se, digits) if math.isfinite(cell.se) else NOT_AVAILABLE})"
-    v = cell.value
-    if cell.kind == "empty" or v is None:
-        return "", se
-    if cell.kind == "integer":
-        return f"{int(v):d}", se  # type: ignore[call-overload]
-    if cell.kind == "pvalue":
-        p = float(v)  # type: ignore[arg-type]
-        if math.isnan(p):
-            return NOT_AVAILABLE, se
-        return ("<0.001" if p < 0.001 else f"{p:.3f}"), se
-    if cell.kind == "interval":
-        lo, hi = cast(tuple[float | None, float | None], v)
-        if lo is None or hi is None or math.isnan(lo) or math.isnan(hi):
-            return NOT_AVAILABLE, se
-        return f"[{format_number(lo, digits)}, {format_number(hi, digits)}]", se
-    if cell.kind == "number":
-        x = float(v)  # type: ignore[arg-type]
-        text = format_number(x, digits) if not math.isnan(x) else NOT_AVAILABLE
-        return (f"{text} {cell.remark}" if cell.remark else text), se
-    return str(v), se
+__all__ = ["EXTRA_DIGITS", "NOT_AVAILABLE", "UNBOUNDED", "Cell", "CellKind", "Reasons", "Row",
+           "PLACEHOLDER", "Table", "estimate_cell", "format_cell", "format_number", "test_cell"]
 
 
 def _union_labels(per_column: list[list[str]]) -> list[str]:
@@ -126,7 +50,11 @@ def _union_labels(per_column: list[list[str]]) -> list[str]:
 
 
 def _coef_rows(results: tuple[EquationFindings, ...], restricted: bool) -> list[Row]:
-    fits = [r.restricted if restricted else r.unrestricted for r in results]
+    return _coefficient_rows([r.restricted if restricted else r.unrestricted for r in results])
+
+
+def _coefficient_rows(fits: list[Fit]) -> list[Row]:
+    """One row per coefficient label in any of ``fits``; empty where a fit has none."""
     labels = _union_labels([list(f.labels) for f in fits])
     rows = []
     for lab in labels:
@@ -143,53 +71,28 @@ def _coef_rows(results: tuple[EquationFindings, ...], restricted: bool) -> list[
 
 
 def _fit_rows(results: tuple[EquationFindings, ...], restricted: bool) -> list[Row]:
-    fits = [r.restricted if restricted else r.unrestricted for r in results]
+    return _fit_statistics([r.restricted if restricted else r.unrestricted for r in results])
+
+
+def _fit_statistics(fits: list[Fit], r_squared: bool = True) -> list[Row]:
     return [
         Row("observations", tuple(Cell("integer", f.nobs) for f in fits), section="fit"),
-        Row("R^2", tuple(Cell("number", f.rsquared) for f in fits)),
-        Row("adjusted R^2", tuple(Cell("number", f.rsquared_adj) for f in fits)),
-        Row("s.e. of regression", tuple(Cell("number", f.ser) for f in fits)),
+        *((Row(R2, tuple(Cell("number", f.rsquared) for f in fits)),) if r_squared else ()),
+        Row(f"adjusted {R2}", tuple(Cell("number", f.rsquared_adj) for f in fits)),
+        Row(RESIDUAL_SD, tuple(Cell("number", f.ser) for f in fits)),
     ]
+
+
+def _heads(findings: Findings, results: tuple[EquationFindings, ...]
+           ) -> list[tuple[str, str]]:
+    """Column headers: equation above sample, as the spec labels them."""
+    return [(r.equation_label or findings.labels.equation(r.equation),
+             r.sample_label or findings.labels.sample(r.sample)) for r in results]
 
 
 def problem_label(r: EquationFindings) -> str:
     """A few words for a result whose estimates imply no ordinary shares."""
     return (r.problem or "").split(":")[0]
-
-
-# Speeds of convergence are small numbers and half-lives are years: show them so.
-EXTRA_DIGITS = {"lam": 1, "half_life": -2}
-
-
-class Reasons:
-    """Collects why numbers of a table are not available, for one note per reason."""
-
-    def __init__(self) -> None:
-        self._seen: dict[str, list[str]] = {}
-
-    def add(self, reason: str | None, where: str) -> None:
-        if reason:
-            places = self._seen.setdefault(reason, [])
-            if where not in places:
-                places.append(where)
-
-    def notes(self) -> list[str]:
-        return [f"{NOT_AVAILABLE} ({'; '.join(places)}): {reason}."
-                for reason, places in self._seen.items()]
-
-
-def estimate_cell(e: Estimate | None, reasons: Reasons | None = None, where: str = "",
-                  se: bool = True) -> Cell:
-    """A derived parameter with its standard error; what stands in for it when it has none."""
-    if e is None:
-        return Cell.empty()
-    if reasons is not None:
-        reasons.add(e.reason, where)
-    x = EXTRA_DIGITS.get(e.name, 0)
-    if not e.has_value:
-        return Cell("text", e.missing)
-    return Cell("number", e.value, (e.se if e.has_se else math.nan) if se else None,
-                extra_digits=x, remark=e.remark)
 
 
 _FAMILIES = {"levels": ("", "Steady-state income regressions"),
@@ -211,13 +114,13 @@ def _parameter_rows(results: tuple[EquationFindings, ...], section: str | None,
     rows: list[Row] = []
     names = list(dict.fromkeys(s.name for r in results for s in r.shares))
     for name in names:
-        rows.append(Row(f"implied {name}", tuple(
-            estimate_cell(v.estimate if (v := r.share(name)) else None, reasons, r.column)
+        rows.append(Row(f"implied {quantity_label(name)}", tuple(
+            estimate_cell(v.estimate if (v := r.share(name)) else None, reasons, r.heading)
             for r in results), section=section if not rows else None))
-    labels = {"lam": "implied lambda", "half_life": "half-life (years)"}
+    labels = {"lam": f"implied {LAMBDA}", "half_life": "half-life (years)"}
     for name in dict.fromkeys(e.name for r in results for e in r.speed):
-        rows.append(Row(labels.get(name, name),
-                        tuple(estimate_cell(r.speed_estimate(name), reasons, r.column)
+        rows.append(Row(labels.get(name, quantity_label(name)),
+                        tuple(estimate_cell(r.speed_estimate(name), reasons, r.heading)
                               for r in results), section=section if not rows else None))
     return rows
 
@@ -230,7 +133,7 @@ def covariance_words(findings: Findings, results: tuple[EquationFindings, ...]) 
     counts = list(dict.fromkeys(r.unrestricted.n_clusters for r in results))
     if len(counts) == 1:
         return f"cluster-robust by '{s.cluster}', {counts[0]} clusters"
-    per = ", ".join(f"{r.column}: {r.unrestricted.n_clusters}" for r in results)
+    per = ", ".join(f"{r.heading}: {r.unrestricted.n_clusters}" for r in results)
     return f"cluster-robust by '{s.cluster}'; clusters {per}"
 
 
@@ -239,32 +142,20 @@ def _notes(findings: Findings, results: tuple[EquationFindings, ...]) -> list[st
     cov = covariance_words(findings, results)
     dependent = "; ".join(dict.fromkeys(r.dependent_label for r in results))
     notes = [f"Dependent variable: {dependent}. Standard errors ({cov} covariance) in "
-             f"parentheses. g + delta = {s.g_plus_delta:g}."]
+             f"parentheses. g + {DELTA} = {s.g_plus_delta:g}."]
     if any(r.speed for r in results):
-        notes.append(f"Span {s.span_years:g} years; lambda = -ln(1 + b)/span with b the "
-                     "coefficient on initial income (negative: divergence); half-life "
-                     "ln 2 / lambda.")
+        notes.append(f"Span {s.span_years:g} years; {LAMBDA} = {MINUS}ln(1 + b)/span with b "
+                     "the coefficient on initial income (negative: divergence); half-life "
+                     f"ln 2/{LAMBDA}.")
     return notes
-
-
-def test_cell(t: TestResult | None, stat: bool, reasons: Reasons | None = None,
-              where: str = "") -> Cell:
-    """A test's statistic or p-value; 'n/a' (reason noted) when it is not available."""
-    if t is None:
-        return Cell("text", "-")
-    if not t.available:
-        if reasons is not None:
-            reasons.add(t.reason, where)
-        return Cell("text", NOT_AVAILABLE)
-    return Cell("number", t.statistic) if stat else Cell("pvalue", t.pvalue)
 
 
 def _restriction_rows(results: tuple[EquationFindings, ...], reasons: Reasons) -> list[Row]:
     return [
-        Row("restriction F", tuple(test_cell(r.f_test, True, reasons, r.column)
+        Row("restriction F", tuple(test_cell(r.f_test, True, reasons, r.heading)
                                    for r in results), section="restriction test"),
         Row("p-value (F)", tuple(test_cell(r.f_test, False) for r in results)),
-        Row("restriction Wald", tuple(test_cell(r.wald_test, True, reasons, r.column)
+        Row(f"restriction Wald ({CHI2})", tuple(test_cell(r.wald_test, True, reasons, r.heading)
                                       for r in results)),
         Row("p-value (Wald)", tuple(test_cell(r.wald_test, False) for r in results)),
     ]
@@ -288,7 +179,7 @@ def coefficient_table(findings: Findings, restricted: bool,
     which = "restricted" if restricted else "unrestricted"
     return Table(f"{which}_coefficients{suffix}", f"{which.capitalize()} regressions"
                  + (" (growth)" if suffix else ""), "",
-                 tuple((r.equation, r.sample) for r in results), tuple(rows),
+                 tuple(_heads(findings, results)), tuple(rows),
                  tuple(notes + reasons.notes()))
 
 
@@ -299,15 +190,10 @@ def journal_table(findings: Findings, results: tuple[EquationFindings, ...] | No
     results = findings.results if results is None else results
     reasons = Reasons()
     rows = _coef_rows(results, restricted=False)
-    fits = [r.unrestricted for r in results]
-    rows += [
-        Row("observations", tuple(Cell("integer", f.nobs) for f in fits), section="fit"),
-        Row("adjusted R^2", tuple(Cell("number", f.rsquared_adj) for f in fits)),
-        Row("s.e. of regression", tuple(Cell("number", f.ser) for f in fits)),
-    ]
+    rows += _fit_statistics([r.unrestricted for r in results], r_squared=False)
     if any(r.f_test for r in results):
         rows.append(Row("restriction p-value (F)",
-                        tuple(test_cell(r.f_test, False, reasons, r.column) for r in results)))
+                        tuple(test_cell(r.f_test, False, reasons, r.heading) for r in results)))
     restricted = [x for x in _coef_rows(results, restricted=True) if x.label != "constant"]
     if restricted:
         restricted[0] = Row(restricted[0].label, restricted[0].cells, section="restricted")
@@ -317,7 +203,38 @@ def journal_table(findings: Findings, results: tuple[EquationFindings, ...] | No
     notes.append("Restriction: the unrestricted slopes of the rates sum to zero. Implied "
                  "parameters from the restricted slopes, delta-method standard errors.")
     return Table(f"regressions{suffix}", title, "",
-                 tuple((r.equation, r.sample) for r in results), tuple(rows),
+                 tuple(_heads(findings, results)), tuple(rows),
+                 tuple(notes + reasons.notes()))
+
+
+def combined_table(findings: Findings, results: tuple[EquationFindings, ...] | None = None,
+                   suffix: str = "", title: str = "Steady-state income regressions") -> Table:
+    """Every coefficient once: each equation and sample's unrestricted fit beside its
+    restricted fit, the restriction test under the first and the implied parameters under
+    the second."""
+    results = findings.results if results is None else results
+    reasons = Reasons()
+    fits = [f for r in results for f in (r.unrestricted, r.restricted)]
+    rows = _coefficient_rows(fits) + _fit_statistics(fits)
+
+    tests = [
+        ("restriction p-value (F)", lambda r: test_cell(r.f_test, False, reasons, r.heading)),
+        (f"restriction p-value (Wald, {CHI2})",
+         lambda r: test_cell(r.wald_test, False, reasons, r.heading)),
+    ]
+    for i, (label, cell) in enumerate(tests):
+        rows.append(Row(label, tuple(c for r in results for c in (cell(r), Cell.empty())),
+                        section="restriction test" if i == 0 else None))
+    params = _parameter_rows(results, "implied parameters (restricted fit)", reasons)
+    rows += [Row(p.label, tuple(c for c0 in p.cells for c in (Cell.empty(), c0)),
+                 p.section) for p in params]
+    heads = [(*h, kind) for h in _heads(findings, results)
+             for kind in ("unrestricted", "restricted")]
+    notes = _notes(findings, results)
+    notes.append("Restriction: the unrestricted slopes of the rates sum to zero (constant "
+                 "returns); F uses the classical covariance, Wald the run's. Implied parameters "
+                 "from the restricted slopes, delta-method standard errors.")
+    return Table(f"combined{suffix}", title, "", tuple(heads), tuple(rows),
                  tuple(notes + reasons.notes()))
 
 
@@ -335,7 +252,7 @@ def share_status(v: ShareVerdict, r: EquationFindings) -> str:
 
 def _interval_cell(lo: float | None, hi: float | None, x: int) -> Cell:
     if lo is None or hi is None:
-        return Cell("text", "-")
+        return Cell("text", PLACEHOLDER)
     return Cell("interval", (lo, hi), extra_digits=x)
 
 
@@ -349,36 +266,38 @@ def shares_table(findings: Findings) -> Table:
         lines = [(v.estimate, v) for v in r.shares] + [(e, None) for e in r.speed]
         for e, v in lines:
             x = EXTRA_DIGITS.get(e.name, 0)
-            reasons.add(e.reason, r.column)
+            reasons.add(e.reason, r.heading)
             if v and v.point_test:
-                reasons.add(v.point_test.reason, r.column)
+                reasons.add(v.point_test.reason, r.heading)
             if e.has_value:
                 value = Cell("number", e.value, extra_digits=x, remark=e.remark)
                 se = Cell("number", e.se, extra_digits=x)
                 delta = Cell("interval", (e.low, e.high), extra_digits=x)
             else:
-                value, se, delta = Cell("text", e.missing), Cell("text", "-"), Cell("text", "-")
+                value = Cell("text", e.missing)
+                se = delta = Cell("text", PLACEHOLDER)
             cells = (
-                Cell("text", e.name), value, se, delta,
+                Cell("text", quantity_label(e.name)), value, se, delta,
                 _interval_cell(e.exact_low, e.exact_high, x),
-                Cell("interval", v.band) if v and v.band else Cell("text", "-"),
+                Cell("interval", v.band) if v and v.band else Cell("text", PLACEHOLDER),
                 Cell("text", share_status(v, r) if v else ""),
-                test_cell(v.point_test, False) if v and v.point_test else Cell("text", "-"),
+                test_cell(v.point_test, False) if v and v.point_test else Cell("text", PLACEHOLDER),
             )
-            rows.append(Row(r.column if first else "", cells))
+            rows.append(Row(r.heading if first else "", cells))
             first = False
     cols = (("share",), ("estimate",), ("s.e.",), (f"{pct}% interval (delta)",),
             (f"{pct}% interval (endpoints)",), ("plausible band",), ("verdict",),
             ("p (share = point)",))
-    pts = ", ".join(f"{k} = {v:.4g}" for k, v in findings.settings.points.items())
+    pts = ", ".join(f"{quantity_label(k)} = {v:.4g}"
+                    for k, v in findings.settings.points.items())
     notes = ["Verdict: 'inside' when the whole interval lies in the band, 'overlaps' when they "
              "share some values, 'outside' when they share none.",
              "Endpoint interval: the coefficient's interval mapped through the share formula "
              "(exact where the share depends on one coefficient).",
              f"Test points: {pts}.",
-             "lam: speed of convergence per year (negative: divergence); half_life: years to "
-             "close half the gap to the steady state (growth forms), its intervals mapped from "
-             "lam's, unbounded where lam's interval reaches zero."]
+             f"{LAMBDA}: speed of convergence per year (negative: divergence); half-life: "
+             "years to close half the gap to the steady state (growth forms), its intervals "
+             f"mapped from {LAMBDA}'s, unbounded where {LAMBDA}'s interval reaches zero."]
     return Table("implied_shares", "Implied capital shares", "equation / sample", cols,
                  tuple(rows), tuple(notes + reasons.notes()))
 
@@ -391,22 +310,22 @@ def crosscheck_table(findings: Findings) -> Table:
         if c is None:
             continue
         shares = ", ".join(
-            f"{e.name} {format_number(e.value)} "
+            f"{quantity_label(e.name)} {format_number(e.value)} "
             f"({format_number(e.se) if e.has_se else NOT_AVAILABLE})"
             for e in r.unrestricted_shares)
-        rows.append(Row(r.column, (
+        rows.append(Row(r.heading, (
             Cell("text", shares),
-            Cell("text", c.quantity),
-            estimate_cell(c.from_rates, reasons, r.column),
-            estimate_cell(c.from_growth, reasons, r.column),
-            estimate_cell(c.gap, reasons, r.column),
-            test_cell(c.test, False, reasons, r.column),
+            Cell("text", quantity_label(c.quantity)),
+            estimate_cell(c.from_rates, reasons, r.heading),
+            estimate_cell(c.from_growth, reasons, r.heading),
+            estimate_cell(c.gap, reasons, r.heading),
+            test_cell(c.test, False, reasons, r.heading),
         )))
     cols = (("shares from investment slopes (s.e.)",), ("quantity",),
-            ("from investment slopes",), ("from n+g+d slope",), ("difference",),
+            ("from investment slopes",), (f"from {NGD} slope",), ("difference",),
             ("p-value",))
     note = ("The unrestricted slopes imply the same share twice: once from the investment "
-            "slopes and once from the n+g+d slope. A small p-value says the two disagree.")
+            f"slopes and once from the {NGD} slope. A small p-value says the two disagree.")
     return Table("unrestricted_crosscheck", "Shares implied by the unrestricted regression",
                  "equation / sample", cols, tuple(rows), (note, *reasons.notes()))
 
@@ -430,21 +349,20 @@ def structural_table(findings: Findings) -> Table | None:
             if r.nonlinear:
                 robust_names.add(r.nonlinear.robust_covariance)
             if rob is not None:
-                reasons.add(rob.reason, r.column)
-            rows.append(Row(r.column if first else "", (
-                Cell("text", name),
-                estimate_cell(e, reasons, r.column),
-                estimate_cell(md, reasons, r.column) if md else Cell("text", "-"),
-                estimate_cell(nls, reasons, r.column) if nls else Cell("text", "-"),
+                reasons.add(rob.reason, r.heading)
+            rows.append(Row(r.heading if first else "", (
+                Cell("text", quantity_label(name)),
+                estimate_cell(e, reasons, r.heading),
+                estimate_cell(md, reasons, r.heading) if md else Cell("text", PLACEHOLDER),
+                estimate_cell(nls, reasons, r.heading) if nls else Cell("text", PLACEHOLDER),
                 Cell("number", rob.se if rob.has_se else math.nan,
-                     extra_digits=EXTRA_DIGITS.get(name, 0)) if rob else Cell("text", "-"),
+                     extra_digits=EXTRA_DIGITS.get(name, 0)) if rob else Cell("text", PLACEHOLDER),
             )))
             first = False
         if r.minimum_distance is not None:
             t = r.minimum_distance.overid
-            reasons.add(t.reason, r.column)
-            stat = (f"chi2({t.df[0]:g}) = {t.statistic:.3f}" if t.available
-                    else NOT_AVAILABLE)
+            reasons.add(t.reason, r.heading)
+            stat = test_display(t) if t.available else NOT_AVAILABLE
             rows.append(Row("", (Cell("text", "over-identification"), Cell("text", stat),
                                  test_cell(t, False), Cell("text", ""), Cell("text", ""))))
     if not rows:
@@ -469,12 +387,14 @@ def consistency_table(findings: Findings) -> Table | None:
     reasons = Reasons()
     rows = []
     for c in findings.consistency:
-        where = f"{c.levels_equation} vs {c.growth_equation} / {c.sample}"
+        lab = findings.labels
+        where = (f"{lab.equation(c.levels_equation)} vs {lab.equation(c.growth_equation)} / "
+                 f"{lab.sample(c.sample)}")
         cov = "joint" if c.joint_covariance else "independent"
         if c.n_clusters is not None:
             cov += f", {c.n_clusters} clusters"
         rows.append(Row(where, (
-            Cell("text", {"lam": "lambda"}.get(c.quantity, c.quantity)),
+            Cell("text", quantity_label(c.quantity)),
             estimate_cell(c.from_levels, reasons, where),
             estimate_cell(c.from_growth, reasons, where),
             estimate_cell(c.difference, reasons, where),
@@ -485,8 +405,9 @@ def consistency_table(findings: Findings) -> Table | None:
                  "equations / sample",
                  (("quantity",), ("levels form",), ("growth form",), ("growth - levels",),
                   ("p-value",), ("covariance",)), tuple(rows),
-                 ("lambda from the levels form: the sample's mean n + g + delta times "
-                  "(1 - alpha - beta); from the growth form: -ln(1 + b)/span. 'joint': the "
+                 (f"{LAMBDA} from the levels form: the sample's mean {NGD} times "
+                  f"(1 {MINUS} {ALPHA} {MINUS} {BETA}); from the growth form: {MINUS}ln(1 + b)/"
+                  "span. 'joint': the "
                   "two fits' correlation is estimated (same economies); 'independent': it is "
                   "ignored (the samples differ).", *reasons.notes()),
                  digits=findings.settings.digits + 1)
@@ -496,17 +417,18 @@ def dropped_table(findings: Findings) -> Table:
     rows = []
     for r in findings.results:
         for d in r.dropped:
-            rows.append(Row(r.column, (Cell("text", d.economy), Cell("text", d.reason))))
+            rows.append(Row(r.heading, (Cell("text", d.economy), Cell("text", d.reason))))
     return Table("dropped_economies", "Economies dropped from estimation samples",
                  "equation / sample", (("economy",), ("reason",)), tuple(rows),
                  () if rows else ("No economy was dropped.",))
 
 
 def samples_table(findings: Findings) -> Table:
-    rows = [Row(s.name, (Cell("text", s.filter or "(all)"), Cell("integer", s.n_selected)))
+    rows = [Row(findings.labels.sample(s.name),
+                (Cell("text", s.filter or "(all)"), Cell("integer", s.n_selected)))
             for s in findings.samples]
     for r in findings.results:
-        rows.append(Row(r.column, (Cell("text", f"used ({len(r.dropped)} dropped)"),
+        rows.append(Row(r.heading, (Cell("text", f"used ({len(r.dropped)} dropped)"),
                                    Cell("integer", r.nobs)), section=None))
     return Table("samples", "Samples", "sample", (("filter",), ("economies",)), tuple(rows))
 
@@ -521,30 +443,30 @@ def compact_table(findings: Findings) -> Table:
         cells: list[Cell] = [Cell("integer", r.nobs)]
         if clustered:
             cells.append(Cell("integer", r.unrestricted.n_clusters))
-        cells.append(test_cell(r.f_test, False, reasons, r.column))
+        cells.append(test_cell(r.f_test, False, reasons, r.heading))
         for name in ("alpha", "beta"):
             v = r.share(name)
             if v is None:
-                cells += [Cell("text", "-"), Cell("text", "")]
+                cells.append(Cell("text", PLACEHOLDER))
                 continue
             e = v.estimate
-            cells.append(estimate_cell(e, reasons, r.column, se=False))
-            cells.append(Cell("interval", (e.low, e.high)) if e.has_value else Cell("text", ""))
+            cell = estimate_cell(e, reasons, r.heading, se=False)
+            cells.append(replace(cell, interval=(e.low, e.high)) if e.has_value else cell)
         if speed:
             lam = r.speed_estimate("lam")
-            cells.append(estimate_cell(lam, reasons, r.column, se=False) if lam
-                         else Cell("text", "-"))
-        status = "; ".join(f"{v.name} {share_status(v, r)}" for v in r.shares
+            cells.append(estimate_cell(lam, reasons, r.heading, se=False) if lam
+                         else Cell("text", PLACEHOLDER))
+        status = "; ".join(f"{quantity_label(v.name)} {share_status(v, r)}" for v in r.shares
                            if v.band is not None and v.estimate.has_value)
         cells.append(Cell("text", status if r.steady_state else problem_label(r)))
-        rows.append(Row(r.column, tuple(cells)))
+        rows.append(Row(r.heading, tuple(cells)))
     pct = round(findings.settings.confidence * 100)
-    cols = (("N",), *((("clusters",),) if clustered else ()), ("p restr.",), ("alpha",),
-            (f"{pct}% interval",), ("beta",), (f"{pct}% interval",),
-            *((("lambda",),) if speed else ()), ("against the bands",))
+    cols = (("N",), *((("clusters",),) if clustered else ()), ("p restr.",), (ALPHA,),
+            (BETA,), *(((LAMBDA,),) if speed else ()), ("against the bands",))
     return Table("key_results", "Key results", "equation / sample", cols, tuple(rows),
-                 ("p restr.: F test of the constant-returns restriction. Shares from the "
-                  "restricted fit, delta-method intervals.", *reasons.notes()))
+                 (f"p restr.: F test of the constant-returns restriction. Shares from the "
+                  f"restricted fit, {pct}% delta-method intervals below them.",
+                  *reasons.notes()))
 
 
 def scorecard_table(findings: Findings) -> Table | None:
@@ -554,7 +476,7 @@ def scorecard_table(findings: Findings) -> Table | None:
     reasons = Reasons()
     rows = []
     for t in findings.scorecard:
-        where = f"{t.equation} / {t.sample}"
+        where = findings.labels.cell(t.equation, t.sample)
         reasons.add(f"{t.quantity}: {t.reason}" if t.reason else None, where)
         ours = (Cell("number", t.ours) if t.ours is not None else Cell("text", NOT_AVAILABLE))
         diff = t.difference

@@ -1,67 +1,153 @@
-"""Plain-text rendering of tables, for the terminal and ``str(findings)``."""
+"""Terminal rendering of tables and of the compact run view, through ``rich``.
+
+Tables fit the width they are given: numbers never break, labels and text wrap.
+Colour only marks verdict words and is used only when asked for (the command
+line asks when standard output is a terminal and ``NO_COLOR`` is not set); the
+text without colour is the same.  steadyfit's own look: the title in bold on a
+line of its own, a heavy rule under the column headings, dotted column
+separators and dotted rules between sections, notes below in a dimmer tone.
+"""
 
 from __future__ import annotations
 
+import io
+import os
+import shutil
+import sys
 import textwrap
+from typing import TYPE_CHECKING, Any
 
 from ..findings import Findings
-from .tables import Table, format_cell
+from .model import Table, format_cell
+
+if TYPE_CHECKING:
+    from rich.console import Console
+
+# Plain output (a file, str(findings)) is this wide unless told otherwise.
+DEFAULT_WIDTH = 100
+_NARROWEST = 40
+
+# Words that carry a verdict, and the colour each is shown in on a terminal.
+_VERDICT_COLOURS = {"inside": "green", "not rejected": "green", "met": "green",
+                    "overlaps": "yellow", "outside": "red", "rejected": "red",
+                    "MISSED": "bold red", "divergence": "magenta", "n/a": "dim"}
 
 
-def _lines(table: Table, digits: int) -> list[list[str]]:
-    """Header and body lines as lists of cell texts (standard errors on their own line)."""
-    header_levels = max((len(c) for c in table.columns), default=1)
-    lines: list[list[str]] = []
-    for level in range(header_levels):
-        stub = table.stub if level == header_levels - 1 else ""
-        lines.append([stub] + [c[level] if level < len(c) else "" for c in table.columns])
-    for row in table.rows:
-        texts = [format_cell(c, table.places(digits)) for c in row.cells]
-        lines.append([row.label] + [t for t, _ in texts])
-        if any(se is not None for _, se in texts):
-            lines.append([""] + [se or "" for _, se in texts])
-    return lines
+def terminal() -> tuple[int, bool]:
+    """Width and colour for standard output: the real width when attached to a terminal
+    (``COLUMNS`` wins when set), colour only on a terminal and never under ``NO_COLOR``."""
+    width = shutil.get_terminal_size((DEFAULT_WIDTH, 24)).columns
+    colour = sys.stdout.isatty() and not os.environ.get("NO_COLOR")
+    return max(_NARROWEST, width), colour
 
 
-def render_table_text(table: Table, digits: int = 3, width: int = 100) -> str:
-    """A table as aligned plain text: text columns to the left, numbers to the right."""
-    lines = _lines(table, digits)
-    n_head = max((len(c) for c in table.columns), default=1)
-    widths = [max(len(line[i]) for line in lines) for i in range(len(lines[0]))]
-    left = [True, *table.text_columns()]
-    body = []
-    for line in lines:
-        cells = [t.ljust(w) if lft else t.rjust(w)
-                 for t, w, lft in zip(line, widths, left, strict=True)]
-        body.append("  ".join(cells).rstrip())
-    rule = max(len(b) for b in body)
-    out = [table.title, "=" * rule, *body[:n_head], "-" * rule, *body[n_head:]]
+def _console(width: int, colour: bool) -> Console:
+    from rich.console import Console
+
+    return Console(file=io.StringIO(), width=max(_NARROWEST, width), force_terminal=colour,
+                   color_system="standard" if colour else None, no_color=not colour,
+                   highlight=False, emoji=False, markup=False, soft_wrap=False,
+                   legacy_windows=False, force_jupyter=False)
+
+
+def _box() -> Any:
+    from rich.box import Box
+
+    # top, head, head row, mid, row, foot row, foot, bottom (the outer edges are not drawn)
+    return Box("    \n"
+               "  ┆ \n"
+               " ━┿ \n"
+               "  ┆ \n"
+               " ╌┼ \n"
+               " ━┿ \n"
+               "  ┆ \n"
+               "    \n")
+
+
+def _text(value: str, colour: bool) -> Any:
+    from rich.text import Text
+
+    out = Text(value)
+    if colour:
+        for word, style in _VERDICT_COLOURS.items():
+            out.highlight_words([word], style, case_sensitive=True)
+    return out
+
+
+def _rich_table(table: Table, digits: int, width: int, colour: bool) -> Any:
+    from rich.table import Table as RichTable
+
+    places = table.places(digits)
+    texts = [[format_cell(c, places) for c in row.cells] for row in table.rows]
+    two_lines = any(se is not None for row in texts for _, se in row)
+    out = RichTable(box=_box(), show_edge=False, pad_edge=False, collapse_padding=True,
+                    header_style="bold" if colour else "", expand=False, show_lines=two_lines)
+    levels = max((len(c) for c in table.columns), default=1)
+    # labels and text wrap, but keep a readable share of the width
+    longest = max([len(r.label) for r in table.rows] + [len(table.stub) // 2, 1])
+    out.add_column(table.stub, justify="left", overflow="fold",
+                   min_width=min(longest, max(10, width // 8)))
+    for j, (col, text_col) in enumerate(zip(table.columns, table.text_columns(), strict=True)):
+        head = "\n".join(col[i] if i < len(col) else "" for i in range(levels))
+        widest = max([len(t[j][0]) for t in texts] + [1])
+        out.add_column(head, justify="left" if text_col else "right",
+                       no_wrap=not text_col, overflow="fold",
+                       min_width=min(widest, max(8, width // 10)) if text_col else None)
+    for i, row in enumerate(table.rows):
+        if row.section:
+            if i > 0:
+                out.rows[-1].end_section = True
+            out.add_row(_text(row.section, False), *("" for _ in table.columns),
+                        style="italic" if colour else None)
+        cells = [_text(value + (f"\n{se}" if se else ""), colour) for value, se in texts[i]]
+        out.add_row(_text(row.label, False), *cells)
+    return out
+
+
+def _wrap(text: str, width: int, indent: str = "") -> list[str]:
+    return textwrap.wrap(text, width, initial_indent=indent,
+                         subsequent_indent=" " * len(indent) if indent else "",
+                         break_long_words=True, break_on_hyphens=False) or [""]
+
+
+def render_table_text(table: Table, digits: int = 3, width: int = DEFAULT_WIDTH,
+                      colour: bool = False) -> str:
+    """A table for the terminal: title, the table, its notes; no line wider than ``width``."""
+    width = max(_NARROWEST, width)
+    console = _console(width, colour)
+    console.print(_text(table.title, False), style="bold" if colour else None)
+    console.print(_rich_table(table, digits, width, colour))
     for note in table.notes:
-        out += textwrap.wrap(note, max(width, 60))
-    return "\n".join(out)
+        for line in _wrap(note, width):
+            console.print(line, style="dim" if colour else None)
+    file = console.file
+    assert isinstance(file, io.StringIO)
+    return "\n".join(line.rstrip() for line in file.getvalue().rstrip("\n").split("\n"))
 
 
-def render_text(findings: Findings, tables: tuple[Table, ...] | None = None) -> str:
-    """The compact terminal view: warnings, notes and the key-results table."""
+def render_text(findings: Findings, tables: tuple[Table, ...] | None = None,
+                width: int = DEFAULT_WIDTH, colour: bool = False) -> str:
+    """The compact terminal view: warnings, notes, the key-results table, the levels-versus-
+    growth comparisons and the scorecard's count."""
     from .tables import compact_table
     from .verdicts import consistency_lines
 
-    parts = [findings.title]
+    width = max(_NARROWEST, width)
+    parts = [*_wrap(findings.title, width)]
     for w in findings.warnings:
-        parts += textwrap.wrap("warning: " + w, 100, subsequent_indent="  ")
+        parts += _wrap(w, width, "warning: ")
     for r in findings.results:
         if r.problem:
-            parts += textwrap.wrap(f"note ({r.column}): {r.problem}.", 100,
-                                   subsequent_indent="  ")
+            parts += _wrap(f"{r.problem}.", width, f"note ({r.heading}): ")
         for note in r.notes:
-            parts += textwrap.wrap(f"note ({r.column}): {note}", 100, subsequent_indent="  ")
+            parts += _wrap(note, width, f"note ({r.heading}): ")
     for table in tables or (compact_table(findings),):
-        parts += ["", render_table_text(table, findings.settings.digits)]
+        parts += ["", render_table_text(table, findings.settings.digits, width, colour)]
     lines = consistency_lines(findings)
     if lines:
         parts += ["", "Levels against growth form:"]
         for line in lines:
-            parts += textwrap.wrap(line, 100, initial_indent="- ", subsequent_indent="  ")
+            parts += _wrap(line, width, "- ")
     if findings.scorecard:
         met = sum(t.met for t in findings.scorecard)
         parts += ["", f"Replication targets: {met} of {len(findings.scorecard)} met."]

@@ -9,6 +9,7 @@ shown as the number it is, with "divergence" when it is negative.
 from __future__ import annotations
 
 from ..findings import EquationFindings, Estimate, Findings, ShareVerdict, TestResult
+from ..labels import LAMBDA, quantity_label
 from .tables import format_number
 
 
@@ -35,19 +36,20 @@ def restriction_phrase(t: TestResult, level: float) -> str:
 def _share_phrase(v: ShareVerdict, r: EquationFindings) -> str:
     e = v.estimate
     pct = round(e.confidence * 100)
+    name = quantity_label(e.name)
     if not e.has_value:
-        return f"{e.name}: {e.missing} ({e.reason})" if e.reason else f"{e.name}: {e.missing}"
+        return f"{name}: {e.missing} ({e.reason})" if e.reason else f"{name}: {e.missing}"
     if not e.has_se:
-        return (f"{e.name} = {format_number(e.value)}, with no standard error or interval "
+        return (f"{name} = {format_number(e.value)}, with no standard error or interval "
                 f"({e.reason}), so no band verdict or test")
-    text = (f"{e.name} = {format_number(e.value)} ({pct}% interval "
+    text = (f"{name} = {format_number(e.value)} ({pct}% interval "
             f"{format_number(e.low)} to {format_number(e.high)})")
     if v.band and v.band_status:
         where = {"inside": "inside", "overlaps": "overlapping", "outside": "outside"}
         text += (f", {where[v.band_status]} the plausible band {format_number(v.band[0], 2)}"
                  f" to {format_number(v.band[1], 2)}")
     if v.point_test and v.point is not None and v.point_test.available:
-        text += f"; test of {e.name} = {v.point:.3g}: {p_phrase(v.point_test.pvalue)}"
+        text += f"; test of {name} = {v.point:.3g}: {p_phrase(v.point_test.pvalue)}"
     if v.interval_reaches_one:
         text += "; the interval reaches 1, where no steady state exists"
     return text
@@ -56,7 +58,7 @@ def _share_phrase(v: ShareVerdict, r: EquationFindings) -> str:
 def speed_phrase(lam: Estimate, half: Estimate) -> str:
     """The speed of convergence and half-life in words (divergence said as such)."""
     if not lam.has_value:
-        return f"lambda {lam.missing} ({lam.reason})"
+        return f"{LAMBDA} {lam.missing} ({lam.reason})"
     word = "divergence" if lam.value < 0 else "convergence"
     text = f"{word} {format_number(lam.value, 4)} a year"
     if lam.has_se:
@@ -80,9 +82,9 @@ def verdict_lines(findings: Findings) -> tuple[str, ...]:
         size = f"{r.nobs} economies" + (f" in {r.unrestricted.n_clusters} clusters"
                                         if r.unrestricted.n_clusters is not None else "")
         if f is None:
-            head = f"{r.column} ({size}): no restriction to test."
+            head = f"{r.heading} ({size}): no restriction to test."
         else:
-            head = (f"{r.column} ({size}): the constant-returns restriction is "
+            head = (f"{r.heading} ({size}): the constant-returns restriction is "
                     f"{restriction_phrase(f, level)}.")
         parts = []
         if r.problem is not None:
@@ -97,14 +99,61 @@ def verdict_lines(findings: Findings) -> tuple[str, ...]:
     return (*out, *consistency_lines(findings))
 
 
+def _count(n: int, word: str, plural: str | None = None) -> str:
+    return f"{n} {word if n == 1 else plural or word + 's'}"
+
+
+def conclusion(findings: Findings) -> str:
+    """One sentence over every result: restrictions rejected, shares against their bands,
+    and whether the levels and growth forms agree."""
+    level = 1 - findings.settings.confidence
+    tests = [r.f_test for r in findings.results if r.f_test is not None]
+    outcomes = [t.rejects(level) for t in tests]
+    parts = []
+    if tests:
+        text = (f"the constant-returns restriction is rejected at the {level:.0%} level in "
+                f"{sum(o is True for o in outcomes)} of {_count(len(tests), 'test')}")
+        if None in outcomes:
+            text += f" ({outcomes.count(None)} not available)"
+        parts.append(text)
+    verdicts = [v for r in findings.results for v in r.shares if v.band is not None]
+    if verdicts:
+        status = [v.band_status for v in verdicts]
+        text = (f"of {_count(len(verdicts), 'implied share')} with a plausibility band, "
+                f"{status.count('inside')} lie inside it, {status.count('overlaps')} overlap it "
+                f"and {status.count('outside')} lie outside it")
+        if None in status:
+            text += f" ({status.count(None)} without a verdict)"
+        parts.append(text)
+    if findings.consistency:
+        agree = [c.test.rejects(level) for c in findings.consistency]
+        testable = len(agree) - agree.count(None)
+        if testable:
+            text = (f"the levels and growth forms differ significantly on "
+                    f"{sum(a is True for a in agree)} of "
+                    f"{_count(testable, 'compared quantity', 'compared quantities')}")
+        else:
+            text = "the levels and growth forms cannot be compared (no test is available)"
+        if None in agree and testable:
+            text += f" ({agree.count(None)} more cannot be compared)"
+        parts.append(text)
+    n = len(findings.results)
+    head = f"Across {_count(n, 'result')} (equations \u00d7 samples)"
+    if not parts:
+        return f"{head}, there is nothing to test or judge."
+    return f"{head}: " + "; ".join(parts) + "."
+
+
 def consistency_lines(findings: Findings) -> tuple[str, ...]:
     """One sentence per cross-equation comparison; no verdict where the test is not
     available."""
     level = 1 - findings.settings.confidence
     out = []
     for c in findings.consistency:
-        what = "speed of convergence" if c.quantity == "lam" else c.quantity
-        start = (f"{c.levels_equation} and {c.growth_equation} on {c.sample}: the {what} "
+        what = "speed of convergence" if c.quantity == "lam" else quantity_label(c.quantity)
+        labels = findings.labels
+        start = (f"{labels.equation(c.levels_equation)} and "
+                 f"{labels.equation(c.growth_equation)} on {labels.sample(c.sample)}: the {what} "
                  f"from the levels form ({format_number(c.from_levels.value, 4)}) and from "
                  f"the growth form ({format_number(c.from_growth.value, 4)})")
         rejects = c.test.rejects(level)
@@ -118,5 +167,5 @@ def consistency_lines(findings: Findings) -> tuple[str, ...]:
     return tuple(out)
 
 
-__all__ = ["consistency_lines", "format_p", "p_phrase", "restriction_phrase", "speed_phrase",
-           "verdict_lines"]
+__all__ = ["conclusion", "consistency_lines", "format_p", "p_phrase", "restriction_phrase",
+           "speed_phrase", "verdict_lines"]
