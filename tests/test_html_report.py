@@ -57,7 +57,7 @@ def test_sections_in_order_with_verdicts_first(evil_run):
     assert p.section_ids == ["verdicts", "tables", "figures", "data", "caveats", "provenance"]
     n_results = len(json.loads((evil_run / "results.json").read_text())["results"])
     assert html.count("class=\"verdict\"") == n_results == 8
-    for needed in ("g + delta is an assumption", "SHA-256", "Economies dropped", "Samples",
+    for needed in ("g + δ is an assumption", "SHA-256", "Economies dropped", "Samples",
                    "Implied shares and plausible bands", "steadyfit run"):
         assert needed in html, needed
 

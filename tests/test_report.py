@@ -77,7 +77,7 @@ def test_summary_puts_verdicts_first(demo_findings):
     md = render_markdown(demo_findings, "RUN")
     assert md.index("## Verdicts") < md.index("### Implied capital shares")
     assert md.index("### Implied capital shares") < md.index("## Caveats")
-    assert "g + delta is an assumption" in md
+    assert "g + δ is an assumption" in md
     assert "physical only / all (90 economies)" in md
 
 

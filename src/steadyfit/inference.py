@@ -193,7 +193,7 @@ def speed_estimates(b0: float, se_b0: float, ends: np.ndarray, span: float, conf
     """
     ln2 = math.log(2)
     if not b0 > -1:
-        why = "the coefficient on initial income is -1 or below, so lambda is not defined"
+        why = "the coefficient on initial income is \u22121 or below, so \u03bb is not defined"
         return (not_ordinary("lam", confidence, why, "not defined"),
                 not_ordinary("half_life", confidence, why, "none"))
 
@@ -208,7 +208,7 @@ def speed_estimates(b0: float, se_b0: float, ends: np.ndarray, span: float, conf
     if lam < 0:
         est = replace(est, remark="divergence")
     if not lam > 0:
-        half = not_ordinary("half_life", confidence, "no convergence (lambda is not positive)",
+        half = not_ordinary("half_life", confidence, "no convergence (\u03bb is not positive)",
                             "none")
         return est, half
 
@@ -308,5 +308,5 @@ def unrestricted_shares(form: ModelForm, unrestricted: Fit, confidence: float
                                      reason=reason))
     test = z_test_of(found[2], 0.0, f"z test that both ways give the same {check.quantity}",
                      f"{check.quantity} from investment slopes = {check.quantity} from the "
-                     "n+g+d slope")
+                     "n + g + \u03b4 slope")
     return shares, CrossCheckResult(check.quantity, found[0], found[1], found[2], test)

@@ -174,9 +174,9 @@ def caveats(spec: Spec, table: EconomyTable) -> tuple[str, ...]:
     b = spec.body
     out = [
         "The equations assume every economy is in or near its own steady state, with the same "
-        "technology growth g and depreciation delta and a common production function; the "
+        "technology growth g and depreciation \u03b4 and a common production function; the "
         "investment and workforce-growth rates are treated as exogenous to income.",
-        f"g + delta is an assumption, not data: this run uses {b.assumptions.g_plus_delta:g}. "
+        f"g + \u03b4 is an assumption, not data: this run uses {b.assumptions.g_plus_delta:g}. "
         "Results, the restriction test in particular, can move with it.",
         f"Data: '{table.path.name}' (SHA-256 {table.sha256[:12]}...), {table.n_economies} "
         "economies; the estimates describe this vintage and these samples only.",
@@ -186,7 +186,7 @@ def caveats(spec: Spec, table: EconomyTable) -> tuple[str, ...]:
     if any(e.form == "growth" for e in b.equation):
         out.append("Growth equations rest on a log-linear approximation around the steady "
                    "state and one speed of convergence for every economy; initial income is "
-                   "treated as given. Intervals for lambda and the half-life come from the "
+                   "treated as given. Intervals for \u03bb and the half-life come from the "
                    "delta method and from mapping the endpoints of the initial-income "
                    "coefficient's interval.")
     out.append("Cross-country regressions describe associations across economies; they do not "

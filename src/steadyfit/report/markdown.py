@@ -5,8 +5,9 @@ from __future__ import annotations
 import re
 
 from ..findings import Findings
+from ..labels import DELTA
 from .tables import Table, all_tables, format_cell
-from .verdicts import verdict_lines
+from .verdicts import conclusion, verdict_lines
 
 
 def _md_escape(text: str) -> str:
@@ -44,6 +45,7 @@ def render_markdown(findings: Findings, run_id: str | None = None) -> str:
     out = [f"# {_md_escape(findings.title)}", ""]
     if run_id:
         out += [f"Run `{run_id}`.", ""]
+    out += [f"**In one sentence.** {_md_escape(conclusion(findings))}", ""]
     out += ["## Verdicts", ""]
     out += [f"- {_md_escape(v)}" for v in verdict_lines(findings)]
     for r in findings.results:
@@ -54,7 +56,7 @@ def render_markdown(findings: Findings, run_id: str | None = None) -> str:
         out += ["", render_table_md(table, s.digits)]
     out += ["", "## Caveats", ""] + [f"- {_md_escape(c)}" for c in findings.caveats]
     out += ["", "## Settings and provenance", "",
-            f"- g + delta: {s.g_plus_delta:g}; covariance: {s.covariance}"
+            f"- g + {DELTA}: {s.g_plus_delta:g}; covariance: {s.covariance}"
             + (f" (clusters: '{s.cluster}')" if s.cluster else "")
             + f"; confidence: {s.confidence:g}; non-positive values: {s.non_positive}",
             f"- spec: `{p.spec_path}` (SHA-256 `{p.spec_sha256}`)",

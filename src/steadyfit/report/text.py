@@ -133,7 +133,9 @@ def render_text(findings: Findings, tables: tuple[Table, ...] | None = None,
     from .verdicts import consistency_lines
 
     width = max(_NARROWEST, width)
-    parts = [*_wrap(findings.title, width)]
+    from .verdicts import conclusion
+
+    parts = [*_wrap(findings.title, width), *_wrap(conclusion(findings), width)]
     for w in findings.warnings:
         parts += _wrap(w, width, "warning: ")
     for r in findings.results:
