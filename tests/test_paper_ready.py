@@ -221,3 +221,18 @@ def test_none_of_the_borrowed_labels_remains(demo_findings, tmp_path):
             assert label not in text, (path.name, label)
     shown = render_text(demo_findings)
     assert not any(label in shown for label in BORROWED)
+
+
+def test_compare_fits_the_terminal_width(demo_dir, tmp_path):
+    spec = demo_dir / "demo.toml"
+    runs = tmp_path / "runs"
+    first = steadyfit.write_run(steadyfit.run(spec), runs)
+    text = spec.read_text()
+    assert "g_plus_delta = 0.05" in text
+    spec.write_text(text.replace("g_plus_delta = 0.05", "g_plus_delta = 0.07"))
+    second = steadyfit.write_run(steadyfit.run(spec), runs)
+    for width in (80, 100):
+        proc = _cli("compare", first, second, cwd=tmp_path, env={"COLUMNS": str(width)})
+        assert proc.returncode == 0, proc.stderr
+        assert "verdict" in proc.stdout and "g_plus_delta" in proc.stdout
+        assert max(len(line) for line in proc.stdout.splitlines()) <= width

@@ -102,9 +102,11 @@ def _compare(a: Path, b: Path, tolerance: float, html_out: Path | None,
              verdicts_only: bool = False) -> int:
     from .compare import compare_runs, render_comparison_html, render_comparison_text
     from .errors import InputError
+    from .report.text import terminal
 
     comparison = compare_runs(a, b, tolerance)
-    print(render_comparison_text(comparison, verdicts_only))
+    width, colour = terminal()
+    print(render_comparison_text(comparison, verdicts_only, width, colour))
     if html_out is not None:
         if html_out.exists() and html_out.is_dir():
             raise InputError(f"'{html_out}' is a folder; give a file name", "--html")

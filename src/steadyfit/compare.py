@@ -1,7 +1,9 @@
-"""Comparing two run folders: every quantity that moved beyond a tolerance.
+"""Comparing two run folders: the verdicts that changed, then the settings and inputs,
+then every quantity that moved beyond a tolerance.
 
 Reads the ``results.json`` of each run (nothing else), so runs made by
-different versions, data vintages or samples can be compared.
+different versions, data vintages or samples can be compared; a record of an
+older format version is read through :func:`steadyfit.report.record.upgrade_record`.
 """
 
 from __future__ import annotations
@@ -13,6 +15,7 @@ from pathlib import Path
 from typing import Any
 
 from .errors import InputError
+from .report.record import UnreadableVersion, upgrade_record
 
 
 @dataclass(frozen=True)
@@ -29,6 +32,20 @@ class Change:
 
 
 @dataclass(frozen=True)
+class VerdictChange:
+    """A verdict of one equation and sample (or levels-versus-growth pair) that differs."""
+
+    equation: str
+    sample: str
+    what: str  # which verdict: "restriction (F test)", "alpha against its band" ...
+    a: str
+    b: str
+
+    def __str__(self) -> str:
+        return f"{self.equation} / {self.sample}: {self.what}: {self.a} -> {self.b}"
+
+
+@dataclass(frozen=True)
 class Comparison:
     """What differs between run A and run B."""
 
@@ -41,11 +58,24 @@ class Comparison:
     only_in_b: tuple[str, ...]
     economies: tuple[tuple[str, tuple[str, ...], tuple[str, ...]], ...]  # cell, added, removed
     changes: tuple[Change, ...]
+    verdicts: tuple[VerdictChange, ...] = ()
+
+    @property
+    def n_settings_inputs(self) -> int:
+        """Settings, inputs, equations and economies that differ (one each)."""
+        return (len(self.settings) + len(self.inputs) + len(self.only_in_a)
+                + len(self.only_in_b) + len(self.economies))
 
     @property
     def identical(self) -> bool:
-        return not (self.settings or self.inputs or self.only_in_a or self.only_in_b
-                    or self.economies or self.changes)
+        return not (self.verdicts or self.n_settings_inputs or self.changes)
+
+    def count_line(self) -> str:
+        """'N verdicts changed, M settings/inputs, K quantities'."""
+        n, m, k = len(self.verdicts), self.n_settings_inputs, len(self.changes)
+        return (f"{n} {'verdict' if n == 1 else 'verdicts'} changed, "
+                f"{m} {'setting/input' if m == 1 else 'settings/inputs'}, "
+                f"{k} {'quantity' if k == 1 else 'quantities'}")
 
 
 def load_record(path: str | Path) -> tuple[dict[str, Any], str]:
@@ -60,6 +90,10 @@ def load_record(path: str | Path) -> tuple[dict[str, Any], str]:
         raise InputError(f"'{file}' is not a readable results.json: {exc}") from None
     if not isinstance(record, dict) or record.get("format") != "steadyfit-results":
         raise InputError(f"'{file}' is not a steadyfit results.json")
+    try:
+        record = upgrade_record(record)
+    except UnreadableVersion as exc:
+        raise InputError(f"'{file}' {exc}") from None
     name = f"{file.parent.parent.name}/{file.parent.name}"
     return record, name
 
@@ -97,6 +131,78 @@ def _differs(a: float | None, b: float | None, tol: float) -> bool:
     return not math.isclose(a, b, rel_tol=0.0, abs_tol=tol)
 
 
+NOT_AVAILABLE = "not available"
+ABSENT = "(none)"
+
+
+def _level_words(record: dict[str, Any]) -> tuple[float, str]:
+    """The run's test level (one minus its confidence) and how verdicts name it."""
+    level = 1 - float(record.get("settings", {}).get("confidence", 0.95))
+    return level, f"{round(level * 100, 6):g}%"
+
+
+# A verdict: its outcome ("rejected", "inside", "met" ...), and the outcome as shown, with
+# the level it was reached at. Only a change of outcome is a changed verdict: the same
+# outcome at another level follows from the confidence, listed among the settings.
+Verdict = tuple[str, str]
+
+
+def _test_verdict(test: dict[str, Any] | None, level: float, words: tuple[str, str],
+                  at: str) -> Verdict | None:
+    """words[0] when the test rejects at ``level``, else words[1]; 'not available'."""
+    if test is None:
+        return None
+    p = test.get("p")
+    if not test.get("available", True) or p is None:
+        return NOT_AVAILABLE, NOT_AVAILABLE
+    word = words[0] if p < level else words[1]
+    return word, f"{word} at {at}"
+
+
+def record_verdicts(record: dict[str, Any]) -> dict[tuple[str, str, str], Verdict]:
+    """Every verdict of a (current-layout) record, keyed by (equation, sample, what): the
+    restriction's F test at the run's level, each share against its band, each
+    levels-versus-growth comparison, each replication target."""
+    level, at = _level_words(record)
+    out: dict[tuple[str, str, str], Verdict] = {}
+    for r in record.get("results", []):
+        cell = (r["equation"], r["sample"])
+        f = _test_verdict((r.get("restriction_tests") or {}).get("f"), level,
+                          ("rejected", "not rejected"), at)
+        if f is not None:
+            out[(*cell, "restriction (F test)")] = f
+        for share in r.get("implied_shares", []):
+            if share.get("band") is not None:
+                status = share.get("band_status") or NOT_AVAILABLE
+                out[(*cell, f"{share['name']} against its band")] = status, status
+    for c in record.get("consistency", []):
+        pair = f"{c['levels_equation']} vs {c['growth_equation']}"
+        out[(pair, c["sample"], f"{c['quantity']}, levels against growth")] = (
+            _test_verdict(c.get("test"), level, ("differ", "do not differ"), at)
+            or (NOT_AVAILABLE, NOT_AVAILABLE))
+    for t in record.get("scorecard", []):
+        met = "met" if t.get("met") else "missed"
+        out[(t["equation"], t["sample"], f"target {t['quantity']}")] = met, met
+    return out
+
+
+def _verdict_changes(rec_a: dict[str, Any], rec_b: dict[str, Any],
+                     cells: set[tuple[str, str]]) -> tuple[VerdictChange, ...]:
+    """Verdicts whose outcome differs, on the cells both runs have (the others are listed
+    apart)."""
+    va, vb = record_verdicts(rec_a), record_verdicts(rec_b)
+    absent = (ABSENT, ABSENT)
+    out = []
+    for key in dict.fromkeys([*va, *vb]):
+        equation, sample, what = key
+        a, b = va.get(key, absent), vb.get(key, absent)
+        if (equation, sample) in cells and a[0] != b[0]:
+            out.append(VerdictChange(equation, sample, what, a[1], b[1]))
+    order = {cell: i for i, cell in enumerate(dict.fromkeys((v.equation, v.sample)
+                                                            for v in out))}
+    return tuple(sorted(out, key=lambda v: order[(v.equation, v.sample)]))  # by cell
+
+
 def compare_runs(a: str | Path, b: str | Path, tolerance: float = 1e-9) -> Comparison:
     """Every setting, input and quantity that differs between two runs (absolute tolerance)."""
     if tolerance < 0:
@@ -125,12 +231,15 @@ def compare_runs(a: str | Path, b: str | Path, tolerance: float = 1e-9) -> Compa
         for q in dict.fromkeys([*qa, *qb]):
             if _differs(qa.get(q), qb.get(q), tolerance):
                 changes.append(Change(key[0], key[1], q, qa.get(q), qb.get(q)))
+    common = {k for k in cells_a if k in cells_b}
     return Comparison(name_a, name_b, tolerance, settings, inputs, only_a, only_b,
-                      tuple(economies), tuple(changes))
+                      tuple(economies), tuple(changes),
+                      _verdict_changes(rec_a, rec_b, common))
 
 
-def comparison_tables(c: Comparison) -> tuple[Any, ...]:
-    """The comparison in the shared table model (for text and HTML)."""
+def comparison_tables(c: Comparison, verdicts_only: bool = False) -> tuple[Any, ...]:
+    """The comparison in the shared table model (for text and HTML): verdicts first, then
+    settings and inputs, equations and economies, quantities."""
     from .report.tables import Cell, Row, Table
 
     def value_cell(x: Any) -> Cell:
@@ -139,6 +248,14 @@ def comparison_tables(c: Comparison) -> tuple[Any, ...]:
         return Cell("number", float(x))
 
     tables = []
+    if c.verdicts:
+        tables.append(Table("verdicts", "Verdicts that changed", "equation / sample",
+                            (("verdict",), ("A",), ("B",)),
+                            tuple(Row(f"{v.equation} / {v.sample}", (
+                                Cell("text", v.what), Cell("text", v.a), Cell("text", v.b)))
+                                  for v in c.verdicts)))
+    if verdicts_only:
+        return tuple(tables)
     if c.settings or c.inputs:
         rows = tuple(Row(k, (value_cell(a), value_cell(b))) for k, a, b in (*c.settings,
                                                                           *c.inputs))
@@ -158,30 +275,55 @@ def comparison_tables(c: Comparison) -> tuple[Any, ...]:
         Cell("text", ch.quantity), value_cell(ch.a), value_cell(ch.b),
         value_cell(ch.difference))) for ch in c.changes)
     tables.append(Table("quantities", "Quantities that changed", "equation / sample",
-                        (("quantity",), ("A",), ("B",), ("B - A",)), rows,
+                        (("quantity",), ("A",), ("B",), ("B − A",)), rows,
                         (f"A = {c.run_a}, B = {c.run_b}; absolute tolerance {c.tolerance:g}. "
                          f"{len(c.changes)} quantities changed.",), digits=4))
     return tuple(tables)
 
 
-def render_comparison_text(c: Comparison) -> str:
+def _summary(c: Comparison, verdicts_only: bool) -> str:
+    if c.identical:
+        return (f"Nothing changed: no verdict, setting or input, and no quantity differs by "
+                f"more than {c.tolerance:g}.")
+    if verdicts_only and not c.verdicts:
+        return f"No verdict changed ({c.count_line()})."
+    return f"{c.count_line()} (absolute tolerance {c.tolerance:g})."
+
+
+def render_comparison_text(c: Comparison, verdicts_only: bool = False, width: int = 100,
+                           colour: bool = False) -> str:
+    """The comparison for a terminal, no line wider than ``width``: a count line, each changed
+    verdict on a line of its own, then the tables of settings, inputs and quantities (unless
+    ``verdicts_only``)."""
+    import textwrap
+
     from .report.text import render_table_text
 
-    head = f"Comparing A = {c.run_a} with B = {c.run_b}"
-    if c.identical:
-        return head + f"\nNo quantity differs by more than {c.tolerance:g}."
-    return "\n\n".join([head, *(render_table_text(t) for t in comparison_tables(c))])
+    def wrap(text: str, indent: str = "") -> str:
+        return "\n".join(textwrap.wrap(text, width, initial_indent=indent,
+                                       subsequent_indent=indent + "  ",
+                                       break_on_hyphens=False))
+
+    parts = [wrap(f"Comparing A = {c.run_a} with B = {c.run_b}"), wrap(_summary(c, verdicts_only))]
+    if c.verdicts:
+        parts.append("\n".join(["Verdicts that changed", *(wrap(str(v), "  ")
+                                                           for v in c.verdicts)]))
+    if not c.identical and not verdicts_only:
+        parts += [render_table_text(t, width=width, colour=colour)
+                  for t in comparison_tables(c) if t.key != "verdicts"]
+    return "\n\n".join(parts)
 
 
-def render_comparison_html(c: Comparison) -> str:
+def render_comparison_html(c: Comparison, verdicts_only: bool = False) -> str:
+    """The comparison as one HTML page, the verdicts that changed first."""
     import html
 
     from .report.html import render_table_html
 
     e = html.escape
-    body = "".join(render_table_html(t) for t in comparison_tables(c))
-    if c.identical:
-        body = f"<p>No quantity differs by more than {c.tolerance:g}.</p>"
+    body = f"<p>{e(_summary(c, verdicts_only))}</p>"
+    if not c.identical:
+        body += "".join(render_table_html(t) for t in comparison_tables(c, verdicts_only))
     return ("<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'>"
             f"<title>steadyfit: {e(c.run_a)} against {e(c.run_b)}</title><style>"
             "body{font-family:Georgia,serif;max-width:1000px;margin:2em auto;padding:0 1em}"

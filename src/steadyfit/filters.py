@@ -16,8 +16,8 @@ Grammar (keywords are lower case)::
 
 A ``NAME`` is a column: letters, digits, ``_`` and ``.``, or any other column
 name in braces (``{population 1960}``); backticks are still read the same way
-for now, with a notice (see ``spec.Spec.notices``).  Strings use single or double quotes.  An empty filter selects
-every economy.
+for now, with a notice (see ``spec.Spec.notices``).  Strings use single or
+double quotes.  An empty filter selects every economy.
 """
 
 from __future__ import annotations

@@ -12,6 +12,7 @@ from typing import Literal
 import numpy as np
 import pandas as pd
 
+from .analysis import AnalysisData
 from .data import Dropped
 from .estimators import CovarianceName, Fit
 from .labels import DisplayLabels, display
@@ -342,10 +343,6 @@ class Settings:
     latex_landscape: bool = False
     figures: str = "all"  # "all", "key" (share chart and convergence plots) or "none"
 
-    @property
-    def stars(self) -> bool:  # TODO(lead): remove once record.py and runfolder.py use the new name
-        return self.significance_marks
-
 
 @dataclass(frozen=True)
 class Provenance:
@@ -372,6 +369,7 @@ class Findings:
     scorecard: tuple[TargetCheck, ...] = ()
     consistency: tuple[ConsistencyCheck, ...] = ()
     labels: DisplayLabels = field(default_factory=DisplayLabels)
+    analysis: AnalysisData | None = None  # the analysis data of the replication package
 
     @property
     def targets_met(self) -> bool:

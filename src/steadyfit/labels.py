@@ -8,6 +8,11 @@ column names) are shown through :func:`display` unless the spec gives a label.
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from .findings import TestResult
+
 MINUS = "\u2212"
 ALPHA, BETA, LAMBDA, DELTA = "\u03b1", "\u03b2", "\u03bb", "\u03b4"
 CHI2 = "\u03c7\u00b2"
@@ -32,14 +37,11 @@ def quantity_label(name: str) -> str:
     return QUANTITY_LABELS.get(name, display(name))
 
 
-def test_display(t: object) -> str:
-    """A test statistic with its distribution: '1.127 (χ², 1 df)', 'F = 2.10 (1 and 95 df)'."""
-    stat = float(getattr(t, "statistic"))
-    df = tuple(getattr(t, "df"))
-    dist = str(getattr(t, "distribution"))
-    dfs = " and ".join(f"{d:g}" for d in df)
-    name = {"chi2": CHI2, "F": "F", "normal": "z"}.get(dist, dist)
-    return f"{signed(f'{stat:.3f}')} ({name}" + (f", {dfs} df)" if df else ")")
+def test_display(t: TestResult) -> str:
+    """A test statistic with its distribution: '1.127 (χ², 1 df)', '2.100 (F, 1 and 95 df)'."""
+    dfs = " and ".join(f"{d:g}" for d in t.df)
+    name = {"chi2": CHI2, "F": "F", "normal": "z"}.get(t.distribution, t.distribution)
+    return f"{signed(f'{t.statistic:.3f}')} ({name}" + (f", {dfs} df)" if t.df else ")")
 
 
 def signed(text: str) -> str:

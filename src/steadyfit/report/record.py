@@ -1,16 +1,34 @@
-"""The machine-readable record of a run (results.json)."""
+"""The machine-readable record of a run (results.json).
+
+The layout is described by the JSON Schema shipped beside this module
+(``results.schema.json``, :func:`results_schema`); :func:`upgrade_record` reads a
+record of an older format version into the current layout.
+"""
 
 from __future__ import annotations
 
+import json
 import math
 from dataclasses import asdict
+from importlib import resources
 from typing import Any
 
 from ..estimators import Fit
 from ..findings import EquationFindings, Estimate, Findings, ShareVerdict, TestResult
-from ..quantities import quantities, unavailable
+from ..quantities import canonical, quantities, unavailable
 
-FORMAT_VERSION = 2  # 2: "reason" beside every number that is not available
+# 2: "reason" beside every number that is not available.
+# 3: keys in steadyfit's own words: a fit's nobs, df_resid, r2, adj_r2, ser and ssr became
+#    observations, residual_df, r_squared, adjusted_r_squared, residual_sd and
+#    residual_sum_of_squares (a result's nobs and the nonlinear fit's ssr likewise), and
+#    settings.stars became settings.significance_marks (with the new report settings
+#    figure_formats, latex_max_columns and latex_landscape); the quantities nobs, r2,
+#    adj_r2, ser, restricted_adj_r2 and restricted_ser became observations, r_squared,
+#    adjusted_r_squared, residual_sd, restricted_adjusted_r_squared and
+#    restricted_residual_sd.
+FORMAT_VERSION = 3
+READABLE_VERSIONS = (2, 3)  # what upgrade_record (and so ``compare``) reads
+SCHEMA_FILE = "results.schema.json"
 
 
 def _num(x: Any) -> Any:
@@ -33,12 +51,12 @@ def _fit(f: Fit, confidence: float) -> dict[str, Any]:
         "covariance_matrix": [[_num(v) for v in row] for row in f.cov],
         "covariance": f.covariance,
         "distribution": "t" if f.use_t else "normal",
-        "nobs": f.nobs,
-        "df_resid": _num(f.df_resid),
-        "r2": _num(f.rsquared),
-        "adj_r2": _num(f.rsquared_adj),
-        "ser": _num(f.ser),
-        "ssr": _num(f.ssr),
+        "observations": f.nobs,
+        "residual_df": _num(f.df_resid),
+        "r_squared": _num(f.rsquared),
+        "adjusted_r_squared": _num(f.rsquared_adj),
+        "residual_sd": _num(f.ser),
+        "residual_sum_of_squares": _num(f.ssr),
         "clusters": f.n_clusters,
         "covariance_problem": f.cov_problem,
     }
@@ -81,7 +99,7 @@ def _result(r: EquationFindings, confidence: float) -> dict[str, Any]:
         "dependent": r.dependent_label,
         "description": r.description,
         "restriction": r.restriction_text,
-        "nobs": r.nobs,
+        "observations": r.nobs,
         "n_in_sample": r.n_in_sample,
         "economies": list(r.economies),
         "dropped": [{"economy": d.economy, "reason": d.reason} for d in r.dropped],
@@ -108,7 +126,8 @@ def _result(r: EquationFindings, confidence: float) -> dict[str, Any]:
             "estimates": [_estimate(e) for e in r.nonlinear.estimates],
             "robust": [_estimate(e) for e in r.nonlinear.robust],
             "robust_covariance": r.nonlinear.robust_covariance,
-            "intercept": _num(r.nonlinear.intercept), "ssr": _num(r.nonlinear.ssr),
+            "intercept": _num(r.nonlinear.intercept),
+            "residual_sum_of_squares": _num(r.nonlinear.ssr),
             "evaluations": r.nonlinear.evaluations},
         "quantities": {k: _num(v) for k, v in quantities(r).items()},
         "unavailable": unavailable(r),
@@ -127,8 +146,11 @@ def to_record(findings: Findings, run: dict[str, Any]) -> dict[str, Any]:
             "g_plus_delta": s.g_plus_delta, "span_years": s.span_years,
             "covariance": s.covariance, "cluster": s.cluster, "confidence": s.confidence,
             "bands": {k: list(v) for k, v in s.bands.items()}, "points": s.points,
-            "non_positive": s.non_positive, "digits": s.digits, "stars": s.stars,
+            "non_positive": s.non_positive, "digits": s.digits,
+            "significance_marks": s.significance_marks,
             "max_evaluations": s.max_evaluations, "figures": s.figures,
+            "figure_formats": list(s.figure_formats), "latex_max_columns": s.latex_max_columns,
+            "latex_landscape": s.latex_landscape,
         },
         "samples": [{"name": x.name, "filter": x.filter, "economies": x.n_selected}
                     for x in findings.samples],
@@ -150,3 +172,75 @@ def to_record(findings: Findings, run: dict[str, Any]) -> dict[str, Any]:
         "caveats": list(findings.caveats),
         "provenance": asdict(findings.provenance),
     }
+
+
+# Version 2 keys and their version-3 names, by where they occur.
+_V2_FIT_KEYS = {"nobs": "observations", "df_resid": "residual_df", "r2": "r_squared",
+                "adj_r2": "adjusted_r_squared", "ser": "residual_sd",
+                "ssr": "residual_sum_of_squares"}
+_V2_RESULT_KEYS = {"nobs": "observations"}
+_V2_NONLINEAR_KEYS = {"ssr": "residual_sum_of_squares"}
+_V2_SETTINGS_KEYS = {"stars": "significance_marks"}
+# Settings version 2 did not record, as a version-2 run worked: SVG figures only, LaTeX
+# tables neither split nor turned
+_V2_SETTINGS_IMPLIED = {"figure_formats": ["svg"], "latex_max_columns": None,
+                        "latex_landscape": False}
+
+
+def _renamed(d: Any, names: dict[str, str]) -> Any:
+    return {names.get(k, k): v for k, v in d.items()} if isinstance(d, dict) else d
+
+
+class UnreadableVersion(ValueError):
+    """A results.json of a format version this steadyfit cannot read."""
+
+
+def upgrade_record(record: dict[str, Any]) -> dict[str, Any]:
+    """A parsed results.json in the current layout (a new dict; the argument is unchanged).
+
+    Version 2 is read by renaming its keys; any other version than those in
+    :data:`READABLE_VERSIONS` raises :class:`UnreadableVersion`, saying which it is.
+    """
+    version = record.get("format_version")
+    if isinstance(version, bool) or version not in READABLE_VERSIONS:
+        readable = " and ".join(str(v) for v in READABLE_VERSIONS)
+        which = "has no format_version" if version is None else (
+            f"has format_version {json.dumps(version)}")
+        newer = (" (written by a newer steadyfit)"
+                 if type(version) is int and version > FORMAT_VERSION else "")
+        raise UnreadableVersion(f"{which}{newer}; this steadyfit reads format versions "
+                                f"{readable}")
+    if version == FORMAT_VERSION:
+        return dict(record)
+    out = dict(record, format_version=FORMAT_VERSION)
+    settings = _renamed(record.get("settings", {}), _V2_SETTINGS_KEYS)
+    if isinstance(settings, dict):
+        settings = {**_V2_SETTINGS_IMPLIED, **settings}
+    out["settings"] = settings
+    results = []
+    for r in record.get("results", []):
+        r = _renamed(r, _V2_RESULT_KEYS)
+        if isinstance(r, dict):
+            for fit in ("unrestricted", "restricted"):
+                if fit in r:
+                    r[fit] = _renamed(r[fit], _V2_FIT_KEYS)
+            if r.get("nonlinear_least_squares") is not None:
+                r["nonlinear_least_squares"] = _renamed(r["nonlinear_least_squares"],
+                                                        _V2_NONLINEAR_KEYS)
+            for names in ("quantities", "unavailable"):
+                if isinstance(r.get(names), dict):
+                    r[names] = {canonical(k): v for k, v in r[names].items()}
+        results.append(r)
+    out["results"] = results
+    out["scorecard"] = [dict(t, quantity=canonical(t["quantity"]))
+                        if isinstance(t, dict) and isinstance(t.get("quantity"), str) else t
+                        for t in record.get("scorecard", [])]
+    return out
+
+
+def results_schema() -> dict[str, Any]:
+    """The JSON Schema (draft 2020-12) of the current results.json layout, shipped with the
+    package as ``steadyfit/report/results.schema.json``."""
+    text = resources.files("steadyfit.report").joinpath(SCHEMA_FILE).read_text(encoding="utf-8")
+    schema: dict[str, Any] = json.loads(text)
+    return schema

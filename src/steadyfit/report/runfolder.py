@@ -27,6 +27,7 @@ from .figures import all_figures
 from .html import render_html
 from .latex import render_table_latex
 from .markdown import render_markdown, render_table_md
+from .package import descriptive_tables, package_files
 from .record import to_record
 from .tables import all_tables
 
@@ -108,8 +109,10 @@ def write_run(findings: Findings, out_root: str | Path = "reports",
     """Write the run folder ``<out_root>/<spec-stem>/<run-id>/`` and return its path.
 
     Files: ``report.html``, ``summary.md``, ``results.json``, ``tables/*.tex``
-    and ``tables/*.md``, ``figures/*.svg``, and ``inputs/`` (the spec and,
-    when small, the data file).
+    and ``tables/*.md`` (the descriptive statistics among them), ``figures/*.svg``,
+    ``inputs/`` (the spec and, when small, the data file), and the replication
+    package: ``data/analysis.csv``, ``data/codebook.csv``, ``data/codebook.md``,
+    ``README.md``, ``references.txt`` and ``references.bib``.
     """
     now = datetime.now(UTC)
     run_id = new_run_id(now)
@@ -125,11 +128,18 @@ def write_run(findings: Findings, out_root: str | Path = "reports",
         "summary.md": render_markdown(findings, run_id),
         "report.html": render_html(findings, figures, run),
     }
-    for table in tables:
+    for table in (*tables, *descriptive_tables(findings)):
         files[f"tables/{table.key}.md"] = render_table_md(table, s.digits) + "\n"
-        files[f"tables/{table.key}.tex"] = render_table_latex(table, s.digits, s.stars)
+        files[f"tables/{table.key}.tex"] = render_table_latex(table, s.digits, s.significance_marks)
     for fig in figures:
         files[f"figures/{fig.key}.svg"] = fig.svg + "\n"
+    prov = findings.provenance
+    copies = [Path(prov.spec_path)] if prov.spec_path and Path(prov.spec_path).exists() else []
+    data = Path(prov.data_path)
+    if data.exists() and data.stat().st_size <= _MAX_DATA_COPY:
+        copies.append(data)
+    if findings.analysis is not None:
+        files |= package_files(findings, run, [*files, *(f"inputs/{p.name}" for p in copies)])
     out = Path(out_root)
     try:
         out.mkdir(parents=True, exist_ok=True)
@@ -149,13 +159,10 @@ def write_run(findings: Findings, out_root: str | Path = "reports",
             for sub in ("tables", "figures", "inputs"):
                 (tmp / sub).mkdir(parents=True)
             for name, text in files.items():
+                (tmp / name).parent.mkdir(parents=True, exist_ok=True)
                 (tmp / name).write_text(text, encoding="utf-8")
-            prov = findings.provenance
-            if prov.spec_path and Path(prov.spec_path).exists():
-                shutil.copyfile(prov.spec_path, tmp / "inputs" / Path(prov.spec_path).name)
-            data = Path(prov.data_path)
-            if data.exists() and data.stat().st_size <= _MAX_DATA_COPY:
-                shutil.copyfile(data, tmp / "inputs" / data.name)
+            for source in copies:
+                shutil.copyfile(source, tmp / "inputs" / source.name)
             root.mkdir(parents=True, exist_ok=True)
             target = _unique(root, run_id)
             if target.resolve().parent != root.resolve() or not _inside(target, out):
