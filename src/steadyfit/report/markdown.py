@@ -49,7 +49,7 @@ def render_markdown(findings: Findings, run_id: str | None = None) -> str:
     out += ["## Verdicts", ""]
     out += [f"- {_md_escape(v)}" for v in verdict_lines(findings)]
     for r in findings.results:
-        out += [f"- {_md_escape(r.column)}: {_md_escape(n)}" for n in r.notes]
+        out += [f"- {_md_escape(r.heading)}: {_md_escape(n)}" for n in r.notes]
     if findings.warnings:
         out += ["", "## Warnings", ""] + [f"- {_md_escape(w)}" for w in findings.warnings]
     for table in all_tables(findings):
