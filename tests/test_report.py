@@ -25,7 +25,8 @@ def test_run_folder_contents(demo_findings, tmp_path):
     folder = write_run(demo_findings, tmp_path, command=["steadyfit", "run", "x"])
     assert folder.parent == tmp_path / "demo"
     names = {p.name for p in folder.iterdir()}
-    assert names == {"report.html", "summary.md", "results.json", "tables", "figures", "inputs"}
+    assert names == {"report.html", "summary.md", "results.json", "tables", "figures", "inputs",
+                     "data", "README.md", "references.txt", "references.bib"}
     assert {p.name for p in (folder / "inputs").iterdir()} == {"demo.toml", "demo_economies.csv"}
     assert (folder / "tables" / "implied_shares.md").exists()
     assert (folder / "tables" / "regressions.tex").exists()

@@ -202,8 +202,11 @@ def run(spec: Spec | str | Path) -> Findings:
     spec
         A :class:`~steadyfit.spec.Spec` or the path of a TOML spec.
     """
+    from .analysis import build_analysis
+
     p = plan(spec)
     settings = settings_of(p.spec)
+    analysis = build_analysis(p)
     labels = DisplayLabels(p.spec.body.labels.equations, p.spec.body.labels.samples)
     results = tuple(replace(estimate_cell(cell, settings),
                             equation_label=labels.equations.get(cell.design.equation),
@@ -252,6 +255,7 @@ def run(spec: Spec | str | Path) -> Findings:
         scorecard=scorecard,
         consistency=checks,
         labels=labels,
+        analysis=analysis,
     )
 
 

@@ -139,7 +139,8 @@ def write_run(findings: Findings, out_root: str | Path = "reports",
     if data.exists() and data.stat().st_size <= _MAX_DATA_COPY:
         copies.append(data)
     if findings.analysis is not None:
-        files |= package_files(findings, run, [*files, *(f"inputs/{p.name}" for p in copies)])
+        files |= package_files(findings, run, [*files, "results.json",
+                                               *(f"inputs/{p.name}" for p in copies)])
     out = Path(out_root)
     try:
         out.mkdir(parents=True, exist_ok=True)
