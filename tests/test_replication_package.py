@@ -278,3 +278,11 @@ def test_folder_readme_holds_the_command_versions_and_files(demo_findings, demo_
 def test_the_analysis_record_is_short_to_print(demo_findings):
     assert len(repr(demo_findings.analysis)) < 120
     assert len(repr(demo_findings)) < 400
+
+
+def test_report_shows_the_descriptive_statistics(tmp_path):
+    from steadyfit.demo import write_demo
+
+    findings = steadyfit.run(write_demo(tmp_path / "demo"))
+    html = (steadyfit.write_run(findings, tmp_path / "runs") / "report.html").read_text()
+    assert "Descriptive statistics by sample" in html and "table-correlations" in html

@@ -165,8 +165,11 @@ def render_html(findings: Findings, figures: tuple[Figure, ...], run: dict[str, 
     digits = s.digits
     level = 1 - s.confidence
     tables = [markupsafe.Markup(render_table_html(t, digits)) for t in report_tables(findings)]
+    from .package import descriptive_tables
+
     appendix = [markupsafe.Markup(render_table_html(t, digits))
-                for t in (samples_table(findings), dropped_table(findings))]
+                for t in (samples_table(findings), *descriptive_tables(findings),
+                          dropped_table(findings))]
     card = scorecard_table(findings)
     checks = consistency_table(findings)
     return str(_environment().get_template("report.html.j2").render(
