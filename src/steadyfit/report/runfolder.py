@@ -109,7 +109,8 @@ def write_run(findings: Findings, out_root: str | Path = "reports",
     """Write the run folder ``<out_root>/<spec-stem>/<run-id>/`` and return its path.
 
     Files: ``report.html``, ``summary.md``, ``results.json``, ``tables/*.tex``
-    and ``tables/*.md`` (the descriptive statistics among them), ``figures/*.svg``,
+    and ``tables/*.md`` (the descriptive statistics among them), ``figures/*.svg`` and
+    ``figures/*.pdf`` (as ``report.figure_formats`` asks),
     ``inputs/`` (the spec and, when small, the data file), and the replication
     package: ``data/analysis.csv``, ``data/codebook.csv``, ``data/codebook.md``,
     ``README.md``, ``references.txt`` and ``references.bib``.
@@ -123,16 +124,21 @@ def write_run(findings: Findings, out_root: str | Path = "reports",
     # everything is rendered before anything is written
     s = findings.settings
     tables = all_tables(findings)
-    figures = all_figures(findings)
-    files: dict[str, str] = {
+    # the HTML report inlines SVG whatever files are asked for
+    figures = all_figures(findings, ("svg", *(f for f in s.figure_formats if f != "svg")))
+    files: dict[str, str | bytes] = {
         "summary.md": render_markdown(findings, run_id),
         "report.html": render_html(findings, figures, run),
     }
     for table in (*tables, *descriptive_tables(findings)):
         files[f"tables/{table.key}.md"] = render_table_md(table, s.digits) + "\n"
-        files[f"tables/{table.key}.tex"] = render_table_latex(table, s.digits, s.significance_marks)
+        files[f"tables/{table.key}.tex"] = render_table_latex(
+            table, s.digits, s.significance_marks, s.latex_max_columns, s.latex_landscape)
     for fig in figures:
-        files[f"figures/{fig.key}.svg"] = fig.svg + "\n"
+        if "svg" in s.figure_formats:
+            files[f"figures/{fig.key}.svg"] = fig.svg + "\n"
+        if fig.pdf is not None:
+            files[f"figures/{fig.key}.pdf"] = fig.pdf
     prov = findings.provenance
     copies = [Path(prov.spec_path)] if prov.spec_path and Path(prov.spec_path).exists() else []
     data = Path(prov.data_path)
@@ -159,9 +165,12 @@ def write_run(findings: Findings, out_root: str | Path = "reports",
             fcntl.flock(lock, fcntl.LOCK_EX | fcntl.LOCK_NB)
             for sub in ("tables", "figures", "inputs"):
                 (tmp / sub).mkdir(parents=True)
-            for name, text in files.items():
+            for name, content in files.items():
                 (tmp / name).parent.mkdir(parents=True, exist_ok=True)
-                (tmp / name).write_text(text, encoding="utf-8")
+                if isinstance(content, bytes):
+                    (tmp / name).write_bytes(content)
+                else:
+                    (tmp / name).write_text(content, encoding="utf-8")
             for source in copies:
                 shutil.copyfile(source, tmp / "inputs" / source.name)
             root.mkdir(parents=True, exist_ok=True)
