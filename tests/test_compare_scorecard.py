@@ -4,6 +4,7 @@ known ways."""
 from __future__ import annotations
 
 import json
+import re
 import subprocess
 import sys
 
@@ -259,8 +260,10 @@ def test_compare_verdicts_only(verdict_runs, tmp_path, capsys):
     stdout = capsys.readouterr().out
     c = compare_runs(a, b)
     assert c.count_line() in stdout
-    assert [ln.strip() for ln in stdout.splitlines() if " -> " in ln] == [
-        str(v) for v in c.verdicts]
+    # each verdict is one line, wrapped to the width with an indented continuation
+    section = stdout.split("Verdicts that changed\n", 1)[1].split("\n\n", 1)[0]
+    unwrapped = re.sub(r"\n {4}", " ", section)
+    assert [ln.strip() for ln in unwrapped.splitlines()] == [str(v) for v in c.verdicts]
     html = page.read_text()
     for out in (stdout, html):
         assert "Quantities that changed" not in out and "coef:ln_ngd" not in out

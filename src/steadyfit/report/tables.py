@@ -12,7 +12,19 @@ from dataclasses import replace
 
 from ..estimators import Fit
 from ..findings import EquationFindings, Findings, ShareVerdict
-from ..labels import ALPHA, BETA, CHI2, DELTA, LAMBDA, MINUS, NGD, R2, quantity_label, test_display
+from ..labels import (
+    ALPHA,
+    BETA,
+    CHI2,
+    DELTA,
+    LAMBDA,
+    MINUS,
+    NGD,
+    R2,
+    display,
+    quantity_label,
+    test_display,
+)
 from .model import (
     EXTRA_DIGITS,
     NOT_AVAILABLE,
@@ -403,7 +415,7 @@ def consistency_table(findings: Findings) -> Table | None:
         )))
     return Table("consistency", "Cross-equation consistency: levels against growth",
                  "equations / sample",
-                 (("quantity",), ("levels form",), ("growth form",), ("growth - levels",),
+                 (("quantity",), ("levels form",), ("growth form",), (f"growth {MINUS} levels",),
                   ("p-value",), ("covariance",)), tuple(rows),
                  (f"{LAMBDA} from the levels form: the sample's mean {NGD} times "
                   f"(1 {MINUS} {ALPHA} {MINUS} {BETA}); from the growth form: {MINUS}ln(1 + b)/"
@@ -469,6 +481,45 @@ def compact_table(findings: Findings) -> Table:
                   *reasons.notes()))
 
 
+def _result_of(findings: Findings, equation: str, sample: str) -> EquationFindings | None:
+    return next((r for r in findings.results if r.equation == equation and r.sample == sample),
+                None)
+
+
+_ENDS = {"_robust_se": "robust s.e. of {}", "_se": "s.e. of {}",
+         "_low": "lower end of {}'s interval", "_high": "upper end of {}'s interval"}
+
+
+_PREFIXES = {"md_": "{} (minimum distance)", "nls_": "{} (nonlinear LS)",
+             "unrestricted_": "{} (unrestricted fit)", "restricted_": "{} (restricted fit)"}
+_NAMED = {"observations": "observations", "r_squared": R2, "adjusted_r_squared": f"adjusted {R2}",
+          "residual_sd": RESIDUAL_SD, "restriction_f": "restriction F",
+          "restriction_p": "restriction p-value (F)", "restriction_wald": "restriction Wald",
+          "restriction_wald_p": "restriction p-value (Wald)", "overid": "over-identification",
+          "overid_p": "over-identification p-value", "crosscheck_gap": "cross-check difference",
+          "crosscheck_gap_se": "s.e. of the cross-check difference",
+          "crosscheck_p": "cross-check p-value"}
+
+
+def target_text(quantity: str, r: EquationFindings | None) -> str:
+    """A quantity name as readers see it: 'coefficient on ln(sₖ)', 's.e. of α'."""
+    kind, _, name = quantity.partition(":")
+    if name and r is not None:
+        fit = r.restricted if kind.startswith("restricted") else r.unrestricted
+        label = fit.labels[fit.names.index(name)] if name in fit.names else display(name)
+        what = ("restricted " if kind.startswith("restricted") else "") + f"coefficient on {label}"
+        return f"s.e. of {what}" if kind.endswith("se") else what
+    if quantity in _NAMED:
+        return _NAMED[quantity]
+    for prefix, pattern in _PREFIXES.items():
+        if quantity.startswith(prefix) and quantity != prefix.rstrip("_"):
+            return pattern.format(target_text(quantity[len(prefix):], r))
+    for suffix, pattern in _ENDS.items():
+        if quantity.endswith(suffix):
+            return pattern.format(quantity_label(quantity[: -len(suffix)]))
+    return quantity_label(quantity)
+
+
 def scorecard_table(findings: Findings) -> Table | None:
     """Published targets against our numbers (None when the spec lists no target)."""
     if not findings.scorecard:
@@ -477,11 +528,12 @@ def scorecard_table(findings: Findings) -> Table | None:
     rows = []
     for t in findings.scorecard:
         where = findings.labels.cell(t.equation, t.sample)
-        reasons.add(f"{t.quantity}: {t.reason}" if t.reason else None, where)
+        name = target_text(t.quantity, _result_of(findings, t.equation, t.sample))
+        reasons.add(f"{name}: {t.reason}" if t.reason else None, where)
         ours = (Cell("number", t.ours) if t.ours is not None else Cell("text", NOT_AVAILABLE))
         diff = t.difference
         rows.append(Row(where, (
-            Cell("text", t.quantity),
+            Cell("text", name),
             Cell("number", t.published),
             ours,
             Cell("number", diff) if diff is not None else Cell("text", NOT_AVAILABLE),
@@ -493,8 +545,8 @@ def scorecard_table(findings: Findings) -> Table | None:
     return Table("scorecard", "Replication scorecard", "equation / sample",
                  (("quantity",), ("published",), ("ours",), ("difference",), ("tolerance",),
                   ("verdict",), ("source",)), tuple(rows),
-                 (f"{met} of {len(rows)} targets met (|ours - published| <= tolerance); a "
-                  "quantity that is not available does not meet its target.",
+                 (f"{met} of {len(rows)} targets met (|ours {MINUS} published| \u2264 "
+                  "tolerance); a quantity that is not available does not meet its target.",
                   *reasons.notes()),
                  digits=findings.settings.digits + 1)
 
