@@ -138,12 +138,14 @@ def test_figure_files_follow_the_formats_setting(demo_dir, tmp_path):
     import steadyfit
 
     spec = demo_dir / "demo.toml"
-    findings = steadyfit.run(spec)
-    both = write_run(findings, tmp_path / "a")
+    base = spec.read_text()
+    assert not list((write_run(steadyfit.run(spec), tmp_path / "svg") / "figures").glob("*.pdf"))
+    spec.write_text(base + '\n[report]\nfigure_formats = ["svg", "pdf"]\n')
+    both = write_run(steadyfit.run(spec), tmp_path / "a")
     svg = {p.stem for p in (both / "figures").glob("*.svg")}
     assert svg and svg == {p.stem for p in (both / "figures").glob("*.pdf")}
     assert all(p.read_bytes().startswith(b"%PDF") for p in (both / "figures").glob("*.pdf"))
-    spec.write_text(spec.read_text() + '\n[report]\nfigure_formats = ["pdf"]\n')
+    spec.write_text(base + '\n[report]\nfigure_formats = ["pdf"]\n')
     only_pdf = write_run(steadyfit.run(spec), tmp_path / "b")
     assert not list((only_pdf / "figures").glob("*.svg"))
     assert {p.stem for p in (only_pdf / "figures").glob("*.pdf")} == svg

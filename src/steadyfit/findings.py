@@ -338,7 +338,7 @@ class Settings:
     max_evaluations: int = 2000
     digits: int = 3
     significance_marks: bool = False
-    figure_formats: tuple[str, ...] = ("svg", "pdf")
+    figure_formats: tuple[str, ...] = ("svg",)
     latex_max_columns: int | None = None
     latex_landscape: bool = False
     figures: str = "all"  # "all", "key" (share chart and convergence plots) or "none"

@@ -165,7 +165,7 @@ class ReportSpec(_Record):
     digits: int = Field(3, ge=0, le=8)
     significance_marks: StrictBool = False
     figures: FigureChoice = "all"
-    figure_formats: tuple[FigureFormat, ...] = Field(("svg", "pdf"), min_length=1)
+    figure_formats: tuple[FigureFormat, ...] = Field(("svg",), min_length=1)
     latex_max_columns: int | None = Field(None, ge=1, le=20)
     latex_landscape: StrictBool = False
 
