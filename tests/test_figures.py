@@ -14,8 +14,10 @@ import pandas as pd
 import pytest
 
 import steadyfit
+from steadyfit import workers as W
 from steadyfit.report import figures as F
 from steadyfit.report.figures import all_figures, fit_figure, partial_figure
+from steadyfit.workers import can_fork
 
 LONG_EQUATION = "Augmented Solow model with the human-capital investment rate, all regressors"
 LONG_SAMPLE = "Economies that do not export natural resources (commodity exporters out)"
@@ -222,13 +224,13 @@ def _svg_texts(svg: str) -> list[str]:
 def _drawn(findings, monkeypatch, formats=("svg",)):
     """Every figure of a run as the matplotlib figure that was saved, with its Figure."""
     saved = []
-    real = F._export
+    real = F.export
 
     def keep(fig, fmts, title):
         saved.append(fig)
         return real(fig, fmts, title)
 
-    monkeypatch.setattr(F, "_export", keep)
+    monkeypatch.setattr(F, "export", keep)
     figs = all_figures(findings, formats, workers=1)
     return list(zip(figs, saved, strict=True))
 
@@ -287,13 +289,13 @@ def test_ten_thousand_economies_stay_small(many):
 # --- parallel drawing ---------------------------------------------------------------------
 
 
-needs_fork = pytest.mark.skipif(not F._can_fork(), reason="no fork here")
+needs_fork = pytest.mark.skipif(not can_fork(), reason="no fork here")
 
 
 @needs_fork
 def test_parallel_and_serial_give_the_same_bytes(demo, both, monkeypatch):
     forks = []
-    real_fork = F.os.fork
+    real_fork = W.os.fork
 
     def counting_fork():
         pid = real_fork()
@@ -301,7 +303,7 @@ def test_parallel_and_serial_give_the_same_bytes(demo, both, monkeypatch):
             forks.append(pid)
         return pid
 
-    monkeypatch.setattr(F.os, "fork", counting_fork)
+    monkeypatch.setattr(W.os, "fork", counting_fork)
     parallel = all_figures(demo, ("svg", "pdf"), workers=2)
     assert len(forks) == 1
     assert [f.key for f in parallel] == [f.key for f in both]
@@ -313,7 +315,7 @@ def test_a_failed_child_is_redrawn_here(demo, monkeypatch):
     def broken(*args, **kwargs):
         raise RuntimeError("the child cannot send its figures")
 
-    monkeypatch.setattr(F.pickle, "dumps", broken)  # only the child pickles
+    monkeypatch.setattr(W.pickle, "dumps", broken)  # only the child pickles
     assert all_figures(demo, workers=2) == all_figures(demo, workers=1)
 
 
@@ -321,8 +323,17 @@ def test_serial_for_few_figures_or_one_worker(demo, monkeypatch):
     def no_fork():
         raise AssertionError("forked")
 
-    monkeypatch.setattr(F.os, "fork", no_fork)
+    monkeypatch.setattr(W.os, "fork", no_fork)
     assert all_figures(demo, workers=1)
     assert F.shares_figure(demo) is not None
     monkeypatch.setattr(F, "PARALLEL_FROM", 10_000)
     assert all_figures(demo, workers=2)
+
+
+def test_ten_thousand_economy_report_under_five_megabytes(many, tmp_path):
+    """The issue's bound on the whole HTML report with every figure inlined (5 MB)."""
+    from steadyfit.report.runfolder import write_run
+
+    folder = write_run(many, tmp_path)
+    size = (folder / "report.html").stat().st_size
+    assert size < 5_000_000, size
