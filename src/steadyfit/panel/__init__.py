@@ -1,0 +1,1 @@
+"""Dynamic panels: annual tables to period panels, panel estimators, their diagnostics."""

@@ -1,0 +1,94 @@
+"""The GMM instrument matrix of a dynamic panel, built from its grid.
+
+Difference GMM (Arellano and Bond 1991) instruments the equation in first
+differences at period t with levels dated t-2 and earlier of the dependent
+variable: one column per period and lag (the block-diagonal layout, a zero
+wherever the lag is missing or belongs to another period), or one column per
+lag when collapsed.  System GMM (Blundell and Bond 1998) adds the equation in
+levels, instrumented by differences dated t-1.  A regressor is exogenous
+(its difference instruments itself), predetermined (levels dated t-1 and
+earlier; in levels its difference dated t) or endogenous (t-2 and earlier; in
+levels its difference dated t-1).  Columns that are zero on every row are left
+out: they carry no moment.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+
+import numpy as np
+
+from .design import DynamicPanel, lag_name, shift
+
+# the earliest lag of a variable's level usable in the differenced equation, and the lag of its
+# difference usable in the levels equation
+_FIRST_LAG = {"dependent": 2, "predetermined": 1, "endogenous": 2}
+_LEVEL_LAG = {"dependent": 1, "predetermined": 0, "endogenous": 1}
+
+
+def _columns(values: np.ndarray, e: np.ndarray, t: np.ndarray, rows: np.ndarray,
+             lags: list[int], collapse: bool, name: str, periods: tuple[int, ...]
+             ) -> tuple[list[np.ndarray], list[str]]:
+    """GMM-style columns: ``values`` (economies x periods) dated t-l for each l in ``lags``,
+    on the rows selected by ``rows``; one column per period and lag, or per lag."""
+    n = len(e)
+    cols: list[np.ndarray] = []
+    names: list[str] = []
+    for lag in lags:
+        ok = rows & (t - lag >= 0)
+        v = np.zeros(n)
+        src = values[e[ok], t[ok] - lag]
+        v[ok] = np.where(np.isfinite(src), src, 0.0)
+        label = lag_name(name, lag)
+        if collapse:
+            cols.append(v)
+            names.append(label)
+            continue
+        for p in np.unique(t[ok]):
+            c = np.where(t == p, v, 0.0)
+            cols.append(c)
+            names.append(f"{label} [{periods[p]}]")
+    return cols, names
+
+
+def gmm_instruments(panel: DynamicPanel, e: np.ndarray, t: np.ndarray, block: np.ndarray,
+                    kinds: Mapping[str, str], max_lag: int | None, collapse: bool
+                    ) -> tuple[np.ndarray, list[str]]:
+    """Instrument columns (without period effects) for stacked rows at economies ``e``,
+    periods ``t``, equation ``block`` (0 differenced, 1 levels)."""
+    if max_lag is not None and max_lag < 1:
+        raise ValueError("max_lag must be 1 or more")
+    deepest = len(panel.periods) if max_lag is None else max_lag
+    diff, level = block == 0, block == 1
+    sources: list[tuple[str, str, np.ndarray]] = [("dependent", panel.dependent, panel.y)]
+    exogenous: list[int] = []
+    for j, name in enumerate(panel.x_names):
+        kind = kinds.get(name, "exogenous")
+        if kind == "exogenous":
+            exogenous.append(j)
+        else:
+            sources.append((kind, name, panel.x[:, :, j]))
+    cols: list[np.ndarray] = []
+    names: list[str] = []
+    for kind, name, values in sources:
+        first = _FIRST_LAG[kind]
+        c, n = _columns(values, e, t, diff, list(range(first, max(first, deepest) + 1)),
+                        collapse, name, panel.periods)
+        cols += c
+        names += n
+        if level.any():
+            d = values - shift(values, 1)
+            c, n = _columns(d, e, t, level, [_LEVEL_LAG[kind]], collapse, f"D.{name}",
+                            panel.periods)
+            cols += c
+            names += n
+    for j in exogenous:  # exogenous regressors: their difference, in each equation
+        dx = panel.x[:, :, j] - shift(panel.x[:, :, j], 1)
+        src = dx[e, t]
+        for rows, where in ((diff, ""), (level, " [levels]")):
+            if rows.any():
+                cols.append(np.where(rows & np.isfinite(src), src, 0.0))
+                names.append(f"D.{panel.x_names[j]}{where}")
+    Z = np.column_stack(cols) if cols else np.empty((len(e), 0))
+    keep = np.any(Z != 0, axis=0)
+    return Z[:, keep], [n for n, k in zip(names, keep, strict=True) if k]
