@@ -48,7 +48,7 @@ from .labels import DELTA, MINUS, SYMBOLS
 Vector = np.ndarray
 VectorFn = Callable[[Vector], Vector]
 
-FORM_NAMES: tuple[str, ...] = ("growth", "levels")
+FORM_NAMES: tuple[str, ...] = ("growth", "levels", "panel")
 CAPITAL_KINDS = ("physical", "human_rate", "human_stock")
 
 
@@ -324,13 +324,16 @@ def _problem(p: int | None, shares_of: VectorFn, domain: Callable[[Vector], floa
 
 
 def _build(form: str, capital: tuple[str, ...], span: float | None) -> ModelForm:
-    growth = form == "growth"
+    # a panel equation is the growth form over one period (span = the period's length) with an
+    # effect per economy: the same regressors, restriction and maps; only the estimators differ
+    growth = form in ("growth", "panel")
     human = next((k for k in capital if k != "physical"), None)
     stock = human == "human_stock"
     p = 0 if growth else None  # position of b_0 among the slopes
     off = 1 if growth else 0
     lead = (LN_Y0,) if growth else ()
-    dependent = ("ln_growth", "log change of income per worker") if growth else (
+    dependent = ("ln_growth", "log change of income per worker" + (
+        " over the period" if form == "panel" else "")) if growth else (
         "ln_y", "log income per worker")
     needs = ("income", "income_start") if growth else ("income",)
 
@@ -394,8 +397,9 @@ def _build(form: str, capital: tuple[str, ...], span: float | None) -> ModelForm
                        _from_growth_slope(quantity, n_u, len(unres), p))
     what = {None: "physical capital only", "human_rate": "physical capital and human-capital "
             "investment", "human_stock": "physical capital and a human-capital stock"}[human]
-    desc = ("growth over the span (conditional convergence), " if growth else
-            "steady-state income, ") + what
+    desc = {"growth": "growth over the span (conditional convergence), ",
+            "panel": "growth over each period with an effect per economy (dynamic panel), ",
+            "levels": "steady-state income, "}[form] + what
     key = form_key(form, capital)
     needs_all = (*needs, "invest", "workforce_growth",
                  *(() if human is None else ("human_stock" if stock else "schooling",)))
@@ -411,6 +415,9 @@ _CAPITALS: tuple[tuple[str, tuple[str, ...]], ...] = (
     ("growth", ("physical",)),
     ("growth", ("physical", "human_rate")),
     ("growth", ("physical", "human_stock")),
+    ("panel", ("physical",)),
+    ("panel", ("physical", "human_rate")),
+    ("panel", ("physical", "human_stock")),
 )
 
 
@@ -428,7 +435,7 @@ def get_form(key: str, span: float | None = None) -> ModelForm:
     """The form with this key, its convergence maps bound to ``span`` years."""
     for f, c in _CAPITALS:
         if form_key(f, c) == key:
-            return _build(f, c, span if f == "growth" else None)
+            return _build(f, c, span if f in ("growth", "panel") else None)
     raise KeyError(key)
 
 

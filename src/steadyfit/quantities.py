@@ -38,6 +38,7 @@ import math
 from typing import TYPE_CHECKING
 
 from .equations import ModelForm
+from .panel.methods import METHODS
 
 if TYPE_CHECKING:
     from .findings import EquationFindings, Estimate
@@ -58,6 +59,9 @@ def canonical(name: str) -> str:
     """The quantity name for ``name`` written as the tables print it or in an old spelling
     (``lambda_se`` -> ``lam_se``, ``α + β`` -> ``alpha+beta``, ``nobs`` -> ``observations``)."""
     text = name.strip().replace(" ", "")
+    head, sep, rest = text.partition(":")
+    if sep and head in METHODS:  # a panel estimator's quantity: 'within:lambda'
+        return f"{head}:{canonical(rest)}"
     if text in ALIASES:
         return ALIASES[text]
     for alias, real in sorted(ALIASES.items(), key=lambda kv: -len(kv[0])):
@@ -69,15 +73,39 @@ def canonical(name: str) -> str:
     return text
 
 
-def quantity_names(form: ModelForm) -> tuple[str, ...]:
-    """Every quantity name a result of ``form`` carries (for validating targets early)."""
-    unres = (CONSTANT, *(r.name for r in form.unrestricted))
-    res = (CONSTANT, *(r.name for r in form.restricted))
+def _parameter_names(form: ModelForm) -> list[str]:
     params = list(form.parameters.shares)
     if len(params) > 1:
         params.append("+".join(params))
     if form.converges:
         params += ["lam", "half_life"]
+    return params
+
+
+# per panel estimator: tests and counts (each name prefixed '<estimator>:')
+PANEL_TESTS = ("restriction_wald", "restriction_wald_p", "overid", "overid_p", "ar1", "ar1_p",
+               "ar2", "ar2_p", "first_stage_f", "first_stage_p")
+PANEL_COUNTS = ("observations", "economies", "instruments")
+
+
+def panel_quantity_names(form: ModelForm) -> tuple[str, ...]:
+    """Every quantity a panel result carries: each named '<estimator>:<quantity>'."""
+    per = [f"{k}:{r.name}" for r in form.unrestricted for k in ("coef", "se")]
+    per += [f"{k}:{r.name}" for r in form.restricted for k in ("restricted_coef",
+                                                                 "restricted_se")]
+    per += [f"{s}{suffix}" for s in ["gamma", *_parameter_names(form)]
+            for suffix in ("", "_se", "_low", "_high")]
+    per += [*PANEL_TESTS, *PANEL_COUNTS]
+    return tuple(f"{m}:{q}" for m in METHODS for q in per)
+
+
+def quantity_names(form: ModelForm) -> tuple[str, ...]:
+    """Every quantity name a result of ``form`` carries (for validating targets early)."""
+    if form.form == "panel":
+        return panel_quantity_names(form)
+    unres = (CONSTANT, *(r.name for r in form.unrestricted))
+    res = (CONSTANT, *(r.name for r in form.restricted))
+    params = _parameter_names(form)
     names = [f"{k}:{n}" for n in unres for k in ("coef", "se")]
     names += [f"{k}:{n}" for n in res for k in ("restricted_coef", "restricted_se")]
     names += ["observations", "r_squared", "adjusted_r_squared", "residual_sd",

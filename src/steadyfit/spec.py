@@ -29,10 +29,13 @@ from pydantic import (
 from . import equations
 from .errors import InputError, did_you_mean, one_of, quote
 from .estimators import CovarianceName
+from .panel.methods import METHODS, Method
 from .quantities import canonical, quantity_names
 
 Unit = Literal["percent", "fraction"]
 NonPositive = Literal["error", "drop"]
+IncomeMeasure = Literal["per_worker", "total"]
+Treatment = Literal["exogenous", "predetermined", "endogenous"]
 FigureChoice = Literal["all", "key", "none"]
 FigureFormat = Literal["svg", "pdf"]
 RATE_VARIABLES = ("invest", "schooling", "workforce_growth")
@@ -63,7 +66,8 @@ class ColumnMap(_Record):
 
     income: str = Field(description="output per worker at the end of the span")
     invest: str = Field(description="share of output invested in physical capital")
-    workforce_growth: str = Field(description="growth rate of the workforce")
+    workforce_growth: str | None = Field(None, description="growth rate of the workforce")
+    workforce: str | None = Field(None, description="workforce or population (annual data)")
     schooling: str | None = Field(None, description="share invested in human capital")
     human_stock: str | None = Field(None, description="stock of human capital per worker")
     income_start: str | None = Field(None, description="output per worker at the start")
@@ -84,9 +88,35 @@ class DataSpec(_Record):
     units: UnitMap = Field(default_factory=UnitMap)
     non_positive: NonPositive = "error"
     missing_codes: tuple[float, ...] = ()
+    # annual data: one row per economy and year
+    year: str | None = None
+    income_measure: IncomeMeasure = "per_worker"
+    span: tuple[int, int] | None = None
+
+    @property
+    def annual(self) -> bool:
+        return self.year is not None
 
     @model_validator(mode="after")
     def _units_declared(self) -> DataSpec:
+        if self.annual:
+            if self.columns.workforce is None:
+                raise ValueError("columns.workforce: annual data (data.year is given) need the "
+                                 "workforce or population column, from which n is computed")
+            for derived in ("workforce_growth", "income_start"):
+                if getattr(self.columns, derived) is not None:
+                    raise ValueError(f"columns.{derived}: with annual data it is computed from "
+                                     "the yearly values; remove this mapping")
+            if self.span is not None and not self.span[0] < self.span[1]:
+                raise ValueError(f"span: the first year must come before the last, not "
+                                 f"{list(self.span)}")
+        else:
+            for key, value, default in (("span", self.span, None),
+                                        ("income_measure", self.income_measure, "per_worker"),
+                                        ("columns.workforce", self.columns.workforce, None)):
+                if value != default:
+                    raise ValueError(f"{key}: only for annual data (give data.year, the column "
+                                     "of years)")
         for var in RATE_VARIABLES:
             if getattr(self.columns, var) is not None and getattr(self.units, var) is None:
                 raise ValueError(
@@ -154,6 +184,41 @@ class PlausibleSpec(_Record):
         return v
 
 
+class PanelSpec(_Record):
+    """How annual data become a period panel, and which panel estimators run."""
+
+    period_years: int = Field(5, ge=1, le=50)
+    first_year: int | None = None
+    last_year: int | None = None
+    estimators: tuple[Method, ...] = Field(METHODS, min_length=1)
+    gmm_steps: Literal[1, 2] = 2
+    max_lag: int | None = Field(None, ge=1)
+    collapse: StrictBool = False
+    within_period_effects: StrictBool = True
+    treatment: dict[str, Treatment] = Field(default_factory=dict)
+
+    @field_validator("estimators")
+    @classmethod
+    def _once(cls, v: tuple[str, ...]) -> tuple[str, ...]:
+        twice = [m for m in v if v.count(m) > 1]
+        if twice:
+            raise ValueError(f"'{twice[0]}' is listed twice")
+        return v
+
+    @field_validator("treatment")
+    @classmethod
+    def _treated(cls, v: dict[str, str]) -> dict[str, str]:
+        for var in v:
+            if var not in PANEL_REGRESSOR_VARIABLES:
+                raise ValueError(f"'{quote(var)}' is not a regressor variable; valid: "
+                                 f"{', '.join(PANEL_REGRESSOR_VARIABLES)}"
+                                 f"{did_you_mean(var, PANEL_REGRESSOR_VARIABLES)}")
+        return v
+
+
+PANEL_REGRESSOR_VARIABLES = ("invest", "schooling", "human_stock", "workforce_growth")
+
+
 class OutputSpec(_Record):
     folder: str | None = None
 
@@ -211,6 +276,7 @@ class SpecBody(_Record):
     title: str = "steadyfit run"
     data: DataSpec
     assumptions: Assumptions = Field(default_factory=Assumptions)
+    panel: PanelSpec = Field(default_factory=PanelSpec)
     samples: dict[str, str] = Field(default_factory=lambda: {"all": ""})
     equation: tuple[EquationSpec, ...] = Field(min_length=1)
     inference: InferenceSpec = Field(default_factory=InferenceSpec)
@@ -242,11 +308,19 @@ class SpecBody(_Record):
                     raise ValueError(f"equation[{i}].samples: unknown sample '{quote(s)}'"
                                      f"{did_you_mean(s, self.samples)}")
             form = equations.find_form(eq.form, eq.capital)
+            derived = ("income_start", "workforce_growth") if self.data.annual else ()
             for var in form.needs:
-                if getattr(self.data.columns, var, None) is None:
+                if getattr(self.data.columns, var, None) is None and var not in derived:
                     raise ValueError(f"equation[{i}]: form '{form.key}' needs the column "
                                      f"mapping data.columns.{var}")
-            if form.needs_span and self.assumptions.span_years is None:
+            if form.form == "panel":
+                if not self.data.annual:
+                    raise ValueError(f"equation[{i}].form: a panel equation needs annual data "
+                                     "(data.year names the column of years)")
+                if eq.structural:
+                    raise ValueError(f"equation[{i}].structural: not available for panel "
+                                     "equations")
+            elif form.needs_span and self.span_years is None and not self.data.annual:
                 raise ValueError(f"equation[{i}]: form '{form.key}' needs assumptions.span_years")
         equations_by_name = {e.name: e for e in self.equation}
         self._check_labels(equations_by_name)
@@ -266,6 +340,15 @@ class SpecBody(_Record):
                                  f"{did_you_mean(t.quantity, known)}")
         return self
 
+
+    @property
+    def span_years(self) -> float | None:
+        """The growth form's span: as given, else the annual data's span."""
+        if self.assumptions.span_years is not None:
+            return self.assumptions.span_years
+        if self.data.span is not None:
+            return float(self.data.span[1] - self.data.span[0])
+        return None
 
     def _check_labels(self, equations_by_name: dict[str, EquationSpec]) -> None:
         variables = [k for k, v in self.data.columns.model_dump().items() if v is not None]

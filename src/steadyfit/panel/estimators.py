@@ -23,7 +23,8 @@ from .design import (
 )
 from .diagnostics import first_stage, instrument_count, serial_correlation
 from .gmm import band_weight, economy_sums, gmm, overidentification, two_sls_weight
-from .results import METHODS, PanelFit
+from .methods import METHODS
+from .results import PanelFit
 
 
 def demean(values: np.ndarray, groups: np.ndarray) -> np.ndarray:

@@ -3,41 +3,12 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Literal, get_args
 
 import numpy as np
 import pandas as pd
 
 from ..findings import TestResult
-
-Method = Literal["pooled_ols", "within", "first_difference_iv", "difference_gmm", "system_gmm"]
-METHODS: tuple[str, ...] = get_args(Method)
-
-# what each estimator assumes, and its known bias on the lagged dependent variable: said in the
-# report beside its numbers
-ASSUMES: dict[str, str] = {
-    "pooled_ols": ("no economy effect correlated with the regressors; with one, the coefficient "
-                   "on lagged income is biased up"),
-    "within": ("regressors strictly exogenous given the economy effect; with few periods the "
-               "coefficient on lagged income is biased down (Nickell 1981)"),
-    "first_difference_iv": ("errors not serially correlated, so income two periods back is a "
-                            "valid instrument for the differenced lag; inefficient, and weak "
-                            "when income is persistent"),
-    "difference_gmm": ("errors not serially correlated (AR(2) should not reject) and the "
-                       "instruments valid (over-identification test); weak instruments and a "
-                       "downward bias when income is persistent (Blundell and Bond 1998)"),
-    "system_gmm": ("as difference GMM, and in addition that changes in income are uncorrelated "
-                   "with the economy effect (mean stationarity), which the levels equation "
-                   "needs"),
-}
-
-TITLES: dict[str, str] = {
-    "pooled_ols": "pooled OLS",
-    "within": "within (fixed effects)",
-    "first_difference_iv": "first-difference 2SLS",
-    "difference_gmm": "difference GMM",
-    "system_gmm": "system GMM",
-}
+from .methods import TITLES
 
 
 @dataclass(frozen=True)
