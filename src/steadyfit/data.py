@@ -10,9 +10,10 @@ from __future__ import annotations
 
 import csv
 import hashlib
+from collections.abc import Collection, Mapping
 from dataclasses import dataclass
 from pathlib import Path
-from typing import NoReturn
+from typing import TYPE_CHECKING, NoReturn
 
 import numpy as np
 import pandas as pd
@@ -21,6 +22,9 @@ from .equations import ModelForm
 from .errors import InputError, did_you_mean, quote
 from .filters import evaluate_filter, parse_filter, referenced_columns
 from .spec import RATE_VARIABLES, Spec
+
+if TYPE_CHECKING:
+    from .panel.annual import PanelTable
 
 # model variable -> canonical log column derived from it
 LOG_COLUMNS = {
@@ -56,6 +60,12 @@ class EconomyTable:
     id_column: str
     variables: dict[str, str]  # model variable -> source column
     warnings: tuple[str, ...]
+    panel: PanelTable | None = None  # annual data: the period panel
+    span: tuple[int, int] | None = None  # annual data: the cross-section's first and last year
+
+    def __repr__(self) -> str:
+        panel = f", {self.panel!r}" if self.panel is not None else ""
+        return f"EconomyTable({self.path.name}: {self.n_economies} economies{panel})"
 
     @property
     def n_economies(self) -> int:
@@ -178,7 +188,7 @@ def read_table(path: Path, id_column: str | None = None) -> pd.DataFrame:
     return frame
 
 
-def _sha256(path: Path) -> str:
+def file_sha256(path: Path) -> str:
     h = hashlib.sha256()
     with path.open("rb") as fh:
         for chunk in iter(lambda: fh.read(1 << 20), b""):
@@ -215,8 +225,15 @@ def _check_ids(raw: pd.DataFrame, id_column: str, name: str) -> tuple[pd.Index, 
 
 
 def load_data(spec: Spec) -> EconomyTable:
-    """Read the spec's data table, check it, convert units and add canonical columns."""
+    """Read the spec's data table, check it, convert units and add canonical columns.
+
+    Annual data (``data.year`` given) go through :func:`steadyfit.panel.annual.load_annual`,
+    which builds the cross-section over the span and the period panel."""
     body = spec.body
+    if body.data.annual:
+        from .panel.annual import load_annual
+
+        return load_annual(spec)
     path = spec.data_path
     raw = read_table(path, body.data.id)
     columns = [str(c) for c in raw.columns]
@@ -236,37 +253,46 @@ def load_data(spec: Spec) -> EconomyTable:
                              f"{did_you_mean(col, columns)}", f"data.columns.{var}")
     for col in dict.fromkeys(variables.values()):
         var = next(v for v, c in variables.items() if c == col)
-        values = _numeric(frame[col], var, col)
+        values = numeric_column(frame[col], var, col)
         if codes:
             values = values.where(~values.isin(codes))
-        _check_values(values, var, col, bool(codes))
+        check_values(values, var, col, bool(codes))
         frame[col] = values
     for var in RATE_VARIABLES:
         if var in variables:
             unit = getattr(body.data.units, var)
-            warnings += _check_unit(frame[variables[var]], var, variables[var], unit)
+            warnings += check_unit(frame[variables[var]], var, variables[var], unit)
     cluster = body.inference.cluster
     if cluster is not None and cluster not in frame.columns:
         raise InputError(f"the data have no column '{quote(cluster)}'"
                          f"{did_you_mean(cluster, columns)}", "inference.cluster")
 
-    gd = body.assumptions.g_plus_delta
+    percent = {var for var in RATE_VARIABLES if getattr(body.data.units, var) == "percent"}
+    add_log_columns(frame, variables, percent, body.assumptions.g_plus_delta)
+    return EconomyTable(frame, path, file_sha256(path), body.data.id, variables, tuple(warnings))
+
+
+def add_log_columns(frame: pd.DataFrame, variables: Mapping[str, str], percent: Collection[str],
+                    g_plus_delta: float) -> None:
+    """Add the canonical log columns (``ln_y``, ``ln_sk``, ...; ``ln_growth`` when both ends of
+    income are there) to ``frame`` in place, with each variable's level (a fraction; n + g +
+    delta for workforce growth) as ``_<variable>_level`` for messages and checks.  A value
+    at or below zero gets a missing log."""
     for var, col in variables.items():
         values = frame[col].astype(float)
-        if var in RATE_VARIABLES and getattr(body.data.units, var) == "percent":
+        if var in percent:
             values = values / 100.0
         if var == "workforce_growth":
-            values = values + gd
+            values = values + g_plus_delta
         with np.errstate(divide="ignore", invalid="ignore"):
             frame[LOG_COLUMNS[var]] = np.where(values > 0, np.log(values.where(values > 0)),
                                                np.nan)
-        frame[f"_{var}_level"] = values  # fraction (and n+g+d), kept for messages and checks
+        frame[f"_{var}_level"] = values
     if "ln_y" in frame.columns and "ln_y0" in frame.columns:
         frame["ln_growth"] = frame["ln_y"] - frame["ln_y0"]
-    return EconomyTable(frame, path, _sha256(path), body.data.id, variables, tuple(warnings))
 
 
-def _numeric(series: pd.Series, var: str, col: str) -> pd.Series:
+def numeric_column(series: pd.Series, var: str, col: str) -> pd.Series:
     if pd.api.types.is_bool_dtype(series):
         raise InputError("holds true/false values, not numbers", f"column '{col}' "
                          f"(data.columns.{var})")
@@ -288,7 +314,7 @@ _CODES = tuple(float(-(10**k - 1)) for k in range(1, 10)) + tuple(
     float(10**k - 1) for k in range(3, 10))
 
 
-def _check_values(values: pd.Series, var: str, col: str, codes_declared: bool) -> None:
+def check_values(values: pd.Series, var: str, col: str, codes_declared: bool) -> None:
     """Refuse infinite values, an all-missing column and missing-value codes."""
     where = f"column '{col}' (data.columns.{var})"
     inf = np.isinf(values.to_numpy())
@@ -318,7 +344,7 @@ def _economies(values: pd.Series, mask: pd.Series, limit: int = 3) -> str:
     return ", ".join(names) + (f" and {more} more" if more > 0 else "")
 
 
-def _check_unit(values: pd.Series, var: str, col: str, unit: str) -> list[str]:
+def check_unit(values: pd.Series, var: str, col: str, unit: str) -> list[str]:
     """Refuse values impossible in the declared unit, and columns that mix units; warn when
     values merely look odd."""
     v = values.dropna()

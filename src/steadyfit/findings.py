@@ -7,7 +7,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
-from typing import Literal
+from typing import TYPE_CHECKING, Literal
 
 import numpy as np
 import pandas as pd
@@ -16,6 +16,9 @@ from .analysis import AnalysisData
 from .data import Dropped
 from .estimators import CovarianceName, Fit
 from .labels import DisplayLabels, display
+
+if TYPE_CHECKING:
+    from .panel.results import PanelFindings
 
 BandStatus = Literal["inside", "overlaps", "outside"]
 
@@ -370,6 +373,7 @@ class Findings:
     consistency: tuple[ConsistencyCheck, ...] = ()
     labels: DisplayLabels = field(default_factory=DisplayLabels)
     analysis: AnalysisData | None = None  # the analysis data of the replication package
+    panels: tuple[PanelFindings, ...] = ()  # panel equations x samples
 
     @property
     def targets_met(self) -> bool:
@@ -380,6 +384,7 @@ class Findings:
         return (f"Findings({self.title!r}: {cells} equation x sample result"
                 f"{'s' if cells != 1 else ''} on {len(self.samples)} samples, "
                 f"{len(self.consistency)} levels-versus-growth checks, "
+                + (f"{len(self.panels)} panel results, " if self.panels else "") +
                 f"{sum(t.met for t in self.scorecard)} of {len(self.scorecard)} targets met; "
                 "print() it for the key results)")
 

@@ -113,7 +113,7 @@ def restriction_tests(design: Design, unrestricted: Fit, restricted: Fit
 
     Both are None for a form that imposes no restriction.
     """
-    from scipy.special import chdtrc, fdtrc
+    from scipy.special import fdtrc
 
     if not design.form.restricts:
         return None, None
@@ -131,19 +131,28 @@ def restriction_tests(design: Design, unrestricted: Fit, restricted: Fit
         f_stat = max(float(f_stat), 0.0)
         f_test = TestResult(f_name, f_stat, float(fdtrc(q, df_resid, f_stat)),
                             (float(q), df_resid), "F", null)
-    w_name = f"Wald test of the restriction ({unrestricted.covariance} covariance)"
-    diff = r @ unrestricted.coef
-    middle = r @ unrestricted.cov @ r.T
-    if unrestricted.cov_problem is not None:
-        wald = TestResult.not_available(w_name, null, unrestricted.cov_problem, "chi2",
-                                        (float(q),))
-    elif np.linalg.eigvalsh(middle).min() <= 0:
-        wald = TestResult.not_available(w_name, null, "the variance of the restriction is not "
-                                        "positive", "chi2", (float(q),))
-    else:
-        w_stat = float(diff @ np.linalg.solve(middle, diff))
-        wald = TestResult(w_name, w_stat, float(chdtrc(q, w_stat)), (float(q),), "chi2", null)
+    wald = wald_test(f"Wald test of the restriction ({unrestricted.covariance} covariance)",
+                     null, r, unrestricted.coef, unrestricted.cov, unrestricted.cov_problem)
     return f_test, wald
+
+
+def wald_test(name: str, null: str, r: np.ndarray, coef: np.ndarray, cov: np.ndarray,
+              cov_problem: str | None) -> TestResult:
+    """Wald chi-square test of ``r @ coef = 0``; not available when the covariance cannot be
+    used or the restriction's variance is not positive."""
+    from scipy.special import chdtrc
+
+    r = np.atleast_2d(r)
+    q = r.shape[0]
+    diff = r @ coef
+    middle = r @ cov @ r.T
+    if cov_problem is not None:
+        return TestResult.not_available(name, null, cov_problem, "chi2", (float(q),))
+    if not np.all(np.isfinite(middle)) or np.linalg.eigvalsh(middle).min() <= 0:
+        return TestResult.not_available(name, null, "the variance of the restriction is not "
+                                        "positive", "chi2", (float(q),))
+    stat = float(diff @ np.linalg.solve(middle, diff))
+    return TestResult(name, stat, float(chdtrc(q, stat)), (float(q),), "chi2", null)
 
 
 def band_status(low: float, high: float, band: tuple[float, float]) -> BandStatus | None:
@@ -236,12 +245,21 @@ def implied_parameters(form: ModelForm, restricted: Fit, confidence: float,
     imply no ordinary shares (None when they do).
     """
     c, v = restricted.slopes()
+    return implied_from_slopes(form, c, v, restricted.conf_int(confidence)[1:],
+                               restricted.cov_problem, confidence, bands, points)
+
+
+def implied_from_slopes(form: ModelForm, c: np.ndarray, v: np.ndarray, coef_ci: np.ndarray,
+                        reason: str | None, confidence: float,
+                        bands: dict[str, tuple[float, float]], points: dict[str, float]
+                        ) -> tuple[tuple[ShareVerdict, ...], tuple[Estimate, ...], str | None]:
+    """:func:`implied_parameters` from restricted slopes ``c``, their covariance ``v`` and
+    intervals ``coef_ci`` (one row per slope), whatever estimator gave them; ``reason`` says
+    why the covariance cannot be used (None when it can)."""
     pmap = form.parameters
     problem = pmap.problem(c)
     label = problem.split(":")[0] if problem else ""
-    reason = restricted.cov_problem
     values, cov = delta_method(pmap.forward, c, v)
-    coef_ci = restricted.conf_int(confidence)[1:]
     estimates: list[Estimate] = []
     for i, name in enumerate(pmap.names):
         if name == "lam":

@@ -32,11 +32,13 @@ from .findings import (
 )
 from .inference import implied_parameters, restriction_tests, unrestricted_shares
 from .labels import DisplayLabels
-from .quantities import quantities, unavailable
+from .panel.results import PanelFindings
+from .quantities import panel_quantities, quantities, unavailable
 from .spec import Spec, load_spec
 from .structural import minimum_distance, nonlinear_least_squares
 
-_VERSIONED = ("steadyfit", "numpy", "scipy", "pandas", "statsmodels", "pydantic")
+_VERSIONED = ("steadyfit", "numpy", "scipy", "pandas", "statsmodels", "linearmodels",
+              "pydantic")
 
 
 @dataclass(frozen=True)
@@ -49,10 +51,27 @@ class PlannedCell:
 
 
 @dataclass(frozen=True)
+class PlannedPanel:
+    """One panel equation on one sample (estimated by :mod:`steadyfit.panel.cells`)."""
+
+    equation: str
+    form: equations.ModelForm
+    sample: str
+
+
+@dataclass(frozen=True)
 class Plan:
     spec: Spec
     table: EconomyTable
     cells: tuple[PlannedCell, ...]
+    panels: tuple[PlannedPanel, ...] = ()
+
+
+def span_years(spec: Spec, table: EconomyTable) -> float | None:
+    """The growth form's span: the spec's, else the annual data's cross-section span."""
+    if spec.body.span_years is not None:
+        return spec.body.span_years
+    return None if table.span is None else float(table.span[1] - table.span[0])
 
 
 def _as_spec(spec: Spec | str | Path) -> Spec:
@@ -64,20 +83,26 @@ def plan(spec: Spec | str | Path) -> Plan:
     spec = _as_spec(spec)
     table = load_data(spec)
     cells = []
+    panels = []
+    span = span_years(spec, table)
     for eq in spec.body.equation:
-        form = equations.find_form(eq.form, eq.capital, spec.body.assumptions.span_years)
+        if eq.form == "panel":
+            form = equations.find_form(eq.form, eq.capital, spec.body.panel.period_years)
+            panels += [PlannedPanel(eq.name, form, s) for s in spec.equation_samples(eq)]
+            continue
+        form = equations.find_form(eq.form, eq.capital, span)
         for sample in spec.equation_samples(eq):
             selection = select(table, spec, sample, form)
             design = build_design(selection, form, eq.name, spec.body.labels.variables)
             cells.append(PlannedCell(selection, design, eq.structural))
-    return Plan(spec, table, tuple(cells))
+    return Plan(spec, table, tuple(cells), tuple(panels))
 
 
-def settings_of(spec: Spec) -> Settings:
+def settings_of(spec: Spec, table: EconomyTable | None = None) -> Settings:
     b = spec.body
     return Settings(
         g_plus_delta=b.assumptions.g_plus_delta,
-        span_years=b.assumptions.span_years,
+        span_years=span_years(spec, table) if table is not None else b.span_years,
         covariance=b.inference.covariance,
         cluster=b.inference.cluster,
         confidence=b.inference.confidence,
@@ -159,6 +184,19 @@ def _estimate_cell(cell: PlannedCell, settings: Settings) -> EquationFindings:
         notes=tuple(notes), minimum_distance=md, nonlinear=nls)
 
 
+def estimate_panel(p: Plan, cell: PlannedPanel, settings: Settings) -> PanelFindings:
+    """Every panel estimator on one panel equation and sample; numerical warnings become
+    notes, as for the cross-section cells."""
+    from .panel.cells import estimate_panel_cell
+
+    with warnings.catch_warnings(record=True) as caught, np.errstate(all="warn"):
+        warnings.simplefilter("always")
+        found = estimate_panel_cell(p.table, p.spec, cell.equation, cell.form, cell.sample,
+                                    settings)
+    notes = [n for n in numerical_notes(caught, "estimating the panel") if n not in found.notes]
+    return replace(found, notes=found.notes + tuple(notes))
+
+
 def _versions() -> dict[str, str]:
     out = {"python": platform.python_version()}
     for name in _VERSIONED:
@@ -205,13 +243,17 @@ def run(spec: Spec | str | Path) -> Findings:
     from .analysis import build_analysis
 
     p = plan(spec)
-    settings = settings_of(p.spec)
+    settings = settings_of(p.spec, p.table)
     analysis = build_analysis(p)
     labels = DisplayLabels(p.spec.body.labels.equations, p.spec.body.labels.samples)
     results = tuple(replace(estimate_cell(cell, settings),
                             equation_label=labels.equations.get(cell.design.equation),
                             sample_label=labels.samples.get(cell.design.sample))
                     for cell in p.cells)
+    panels = tuple(replace(estimate_panel(p, cell, settings),
+                           equation_label=labels.equations.get(cell.equation),
+                           sample_label=labels.samples.get(cell.sample))
+                   for cell in p.panels)
     seen: dict[str, SampleSummary] = {}
     for cell in p.cells:
         sel = cell.selection
@@ -225,6 +267,7 @@ def run(spec: Spec | str | Path) -> Findings:
         versions=_versions(),
     )
     by_cell = {(r.equation, r.sample): (quantities(r), unavailable(r)) for r in results}
+    by_cell.update({(r.equation, r.sample): panel_quantities(r) for r in panels})
     scorecard = tuple(
         TargetCheck(t.equation, t.sample, t.quantity, t.value,
                     by_cell[(t.equation, t.sample)][0].get(t.quantity), t.tolerance, t.source,
@@ -256,6 +299,7 @@ def run(spec: Spec | str | Path) -> Findings:
         consistency=checks,
         labels=labels,
         analysis=analysis,
+        panels=panels,
     )
 
 

@@ -42,6 +42,7 @@ from .panel.methods import METHODS
 
 if TYPE_CHECKING:
     from .findings import EquationFindings, Estimate
+    from .panel.results import PanelFindings
 
 CONSTANT = "const"
 
@@ -204,4 +205,57 @@ def _collect(r: EquationFindings) -> tuple[dict[str, float | None], dict[str, st
             why[name] = f"not estimated: {r.problem}" if r.problem else "not estimated"
         else:
             why[name] = "not computed for this result"
+    return q, why
+
+
+def panel_quantities(p: PanelFindings) -> tuple[dict[str, float | None], dict[str, str]]:
+    """The named quantities of a panel result ('<estimator>:<quantity>'), and why each one
+    without a number has none."""
+    q: dict[str, float | None] = {}
+    why: dict[str, str] = {}
+
+    def put(name: str, value: float | None, reason: str | None = None) -> None:
+        if value is not None and math.isfinite(value):
+            q[name] = float(value)
+        else:
+            q[name] = None
+            why[name] = reason or "not finite"
+
+    tests = {"overid": ("Sargan", "Hansen"), "ar1": ("AR(1)",), "ar2": ("AR(2)",),
+             "first_stage_f": ("first-stage",)}
+    for f in p.estimators:
+        m = f.method
+        for fit, coef, se in ((f.unrestricted, "coef", "se"),
+                              (f.restricted, "restricted_coef", "restricted_se")):
+            names = ["ln_y0", *fit.names[1:fit.slopes]]
+            for name, b, s in zip(names, fit.coef, fit.se, strict=False):
+                put(f"{m}:{coef}:{name}", b)
+                put(f"{m}:{se}:{name}", s, "the coefficient's variance is not finite")
+        for e in (f.gamma, *(v.estimate for v in f.shares), *f.speed):
+            for suffix, value in (("", e.value), ("_se", e.se), ("_low", e.low),
+                                  ("_high", e.high)):
+                put(f"{m}:{e.name}{suffix}", value, e.reason)
+        if f.wald_test is not None:
+            put(f"{m}:restriction_wald", f.wald_test.statistic, f.wald_test.reason)
+            put(f"{m}:restriction_wald_p", f.wald_test.pvalue, f.wald_test.reason)
+        for key, starts in tests.items():
+            t = next((t for t in f.unrestricted.tests if t.name.startswith(starts)), None)
+            if t is None:
+                continue
+            stat, pname = ((key, f"{key}_p") if key != "first_stage_f" else
+                           ("first_stage_f", "first_stage_p"))
+            put(f"{m}:{stat}", t.statistic, t.reason)
+            put(f"{m}:{pname}", t.pvalue, t.reason)
+        put(f"{m}:observations", float(f.unrestricted.nobs))
+        put(f"{m}:economies", float(f.unrestricted.n_economies))
+        if f.unrestricted.n_instruments is not None:
+            put(f"{m}:instruments", float(f.unrestricted.n_instruments))
+    from .equations import get_form
+
+    for name in panel_quantity_names(get_form(p.form_key, float(p.period_years))):
+        if name not in q:
+            q[name] = None
+            why[name] = ("this estimator was not asked for" if not any(
+                name.startswith(f.method + ":") for f in p.estimators)
+                else "not computed by this estimator")
     return q, why

@@ -53,7 +53,8 @@ def _fit(method: str, d: StackedDesign, coef: np.ndarray, cov: np.ndarray, resid
          warnings: tuple[str, ...] = ()) -> PanelFit:
     return PanelFit(method, steps, d.names, coef, cov, d.slopes, d.nobs, d.n_economies,
                     len(np.unique(d.period)),
-                    None if d.Z is None else d.Z.shape[1], tests, warnings, resid)
+                    None if d.Z is None else d.Z.shape[1], tests, warnings, resid,
+                    np.unique(d.economy))
 
 
 def pooled_ols(panel: DynamicPanel, time_effects: bool = True) -> PanelFit:

@@ -7,8 +7,10 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from ..findings import TestResult
-from .methods import TITLES
+from ..findings import Estimate, ShareVerdict, TestResult, _short
+from ..labels import display
+from .diagnostics import BracketCheck
+from .methods import ASSUMES, TITLES
 
 
 @dataclass(frozen=True)
@@ -35,6 +37,7 @@ class PanelFit:
     tests: tuple[TestResult, ...] = ()
     warnings: tuple[str, ...] = ()
     resid: np.ndarray | None = None
+    economy_codes: np.ndarray | None = None  # grid positions of the economies with rows
 
     def __repr__(self) -> str:
         z = f", {self.n_instruments} instruments" if self.n_instruments is not None else ""
@@ -61,3 +64,78 @@ class PanelFit:
 
     def test(self, name: str) -> TestResult | None:
         return next((t for t in self.tests if t.name.startswith(name)), None)
+
+
+@dataclass(frozen=True)
+class EstimatorFindings:
+    """One estimator on one panel equation and sample: both fits and what they imply.
+
+    The coefficient on lagged income is reported as ``gamma``; the maps of the form
+    table use the growth parameterisation (``gamma - 1`` on income at the start of
+    the period), whose slopes ``unrestricted``/``restricted`` hold in ``coef``.
+    """
+
+    method: str
+    unrestricted: PanelFit
+    restricted: PanelFit
+    wald_test: TestResult | None
+    gamma: Estimate
+    shares: tuple[ShareVerdict, ...]
+    speed: tuple[Estimate, ...]
+    problem: str | None
+    bracket: BracketCheck | None = None
+
+    def __repr__(self) -> str:
+        parts = [self.restricted.title, _short(self.gamma)]
+        parts += [_short(v.estimate) for v in self.shares]
+        parts += [_short(e) for e in self.speed[:1]]
+        return f"EstimatorFindings({'; '.join(parts)})"
+
+    @property
+    def title(self) -> str:
+        return self.restricted.title
+
+    @property
+    def assumes(self) -> str:
+        return ASSUMES[self.method]
+
+    def share(self, name: str) -> ShareVerdict | None:
+        return next((s for s in self.shares if s.name == name), None)
+
+    def speed_estimate(self, name: str) -> Estimate | None:
+        return next((e for e in self.speed if e.name == name), None)
+
+
+@dataclass(frozen=True)
+class PanelFindings:
+    """A panel equation on one sample: every estimator the spec asked for."""
+
+    equation: str
+    sample: str
+    form_key: str
+    description: str
+    restriction_text: str
+    period_years: int
+    shape: tuple[str, ...]  # the panel's shape in a few lines
+    economies: tuple[str, ...]  # economies of the sample with at least one observation
+    n_in_sample: int
+    estimators: tuple[EstimatorFindings, ...]
+    notes: tuple[str, ...] = ()
+    equation_label: str | None = None
+    sample_label: str | None = None
+
+    def __repr__(self) -> str:
+        return (f"PanelFindings({self.column} [{self.form_key}], {len(self.economies)} "
+                f"economies, {len(self.estimators)} estimators)")
+
+    @property
+    def column(self) -> str:
+        return f"{self.equation} / {self.sample}"
+
+    @property
+    def heading(self) -> str:
+        return (f"{self.equation_label or display(self.equation)} / "
+                f"{self.sample_label or display(self.sample)}")
+
+    def estimator(self, method: str) -> EstimatorFindings | None:
+        return next((e for e in self.estimators if e.method == method), None)

@@ -1,0 +1,167 @@
+"""Reading annual data named by a spec: the cross-section over the span and the period panel.
+
+:func:`load_annual` reads the table (one row per economy and year), applies the
+same value and unit checks as a cross-section table, converts units (percent
+rates to fractions, total income to income per worker), and builds with
+:mod:`steadyfit.panel.build`:
+
+- the cross-section over ``data.span`` (default: the data's first and last
+  year), which becomes the run's ordinary :class:`~steadyfit.data.EconomyTable`
+  so the levels and growth forms run on it unchanged; columns that are constant
+  within every economy (region, group flags) come along for sample filters;
+- the period panel of ``[panel]`` as a :class:`PanelTable` on the full economy x
+  period grid with canonical log columns, one extra period at the start holding
+  the first period's initial income.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from ..data import (
+    LOG_COLUMNS,
+    EconomyTable,
+    add_log_columns,
+    check_unit,
+    check_values,
+    file_sha256,
+    numeric_column,
+    read_table,
+)
+from ..errors import InputError, did_you_mean, quote
+from ..spec import Spec
+from .build import AnnualProblem, PanelShape, check_annual, cross_section, period_panel
+
+_ANNUAL_VARIABLES = ("income", "workforce", "invest", "schooling", "human_stock")
+_PANEL_LOGS = {"income": "ln_y", "invest": "ln_sk", "schooling": "ln_sh", "human_stock": "ln_h"}
+
+
+@dataclass(frozen=True, eq=False)
+class PanelTable:
+    """The period panel of a run: canonical columns on the economy x period grid.
+
+    ``frame`` has ``economy``, ``year`` (each period's end year; the first row of
+    each economy is the start of the first period and holds ``ln_y`` only),
+    ``ln_y``, ``ln_sk``, [``ln_sh``], [``ln_h``], ``ln_ngd`` (log of n + g + delta)
+    and ``_workforce_growth_level`` (n + g + delta).
+    """
+
+    frame: pd.DataFrame
+    length: int
+    first_year: int
+    shape: PanelShape
+    missing: tuple[AnnualProblem, ...]
+
+    def __repr__(self) -> str:
+        return (f"PanelTable({self.shape.periods} periods of {self.length} years from "
+                f"{self.first_year}, {self.shape.economies} economies)")
+
+
+def _shorten(problems: tuple[AnnualProblem, ...], what: str, limit: int = 3) -> list[str]:
+    if not problems:
+        return []
+    shown = "; ".join(f"'{quote(p.economy, 40)}'"
+                      + (f" {p.year}" if p.year is not None else "") + f": {p.reason}"
+                      for p in problems[:limit])
+    more = f"; and {len(problems) - limit} more" if len(problems) > limit else ""
+    return [f"{what}: {shown}{more}"]
+
+
+def load_annual(spec: Spec) -> EconomyTable:
+    """Read the spec's annual table and build the cross-section and the period panel."""
+    body = spec.body
+    data = body.data
+    assert data.year is not None
+    path = spec.data_path
+    raw = read_table(path, data.id)
+    raw.columns = [str(c) for c in raw.columns]
+    columns = list(raw.columns)
+    for key, col in (("data.id", data.id), ("data.year", data.year)):
+        if col not in raw.columns:
+            raise InputError(f"the data have no column '{quote(col)}'"
+                             f"{did_you_mean(col, columns)}", key)
+    variables = {k: v for k, v in data.columns.model_dump().items() if v is not None}
+    codes = set(data.missing_codes)
+    warnings: list[str] = []
+    canonical = pd.DataFrame({"economy": raw[data.id].astype(str).where(raw[data.id].notna()),
+                              "year": raw[data.year]})
+    for var, col in variables.items():
+        if col not in raw.columns:
+            raise InputError(f"the data have no column '{quote(col)}'"
+                             f"{did_you_mean(col, columns)}", f"data.columns.{var}")
+        values = numeric_column(raw[col], var, col)
+        if codes:
+            values = values.where(~values.isin(codes))
+        check_values(values, var, col, bool(codes))
+        unit = getattr(data.units, var, None)
+        if unit is not None:
+            warnings += check_unit(values, var, col, unit)
+            if unit == "percent":
+                values = values / 100.0
+        canonical[var] = values
+    if data.income_measure == "total":
+        canonical["income"] = canonical["income"] / canonical["workforce"]
+    annual = check_annual(canonical[["economy", "year", *[v for v in _ANNUAL_VARIABLES
+                                                          if v in canonical]]],
+                          on_problem=data.non_positive)
+    warnings += _shorten(annual.problems, "data.non_positive: values left out of the annual data")
+    years = annual.frame["year"]
+    first, last = data.span if data.span is not None else (int(years.min()), int(years.max()))
+    span = cross_section(annual, first, last)
+    warnings += _shorten(span.dropped, f"economies without a complete cross-section over "
+                         f"{first}\u2013{last}")
+
+    economies = pd.Index(sorted(annual.frame["economy"].unique()), name="economy")
+    frame = span.frame.reindex(economies)
+    frame = frame.join(_constant_columns(raw, data.id, {data.year, *variables.values()}))
+    cs_variables = {v: v for v in span.frame.columns}
+    add_log_columns(frame, cs_variables, (), body.assumptions.g_plus_delta)
+    table = EconomyTable(frame, path, file_sha256(path), data.id, cs_variables, tuple(warnings))
+    if not any(e.form == "panel" for e in body.equation):
+        return table
+    p = body.panel
+    built = period_panel(annual, p.period_years, p.first_year, p.last_year)
+    panel = PanelTable(_panel_frame(built.frame, body.assumptions.g_plus_delta),
+                       built.length, built.first_year, built.shape, built.missing)
+    return EconomyTable(frame, path, table.sha256, data.id, cs_variables, tuple(warnings),
+                        panel, (first, last))
+
+
+def _constant_columns(raw: pd.DataFrame, id_column: str, skip: set[str]) -> pd.DataFrame:
+    """Columns whose value never changes within an economy (missing values aside), one row
+    per economy: what sample filters and clusters may read."""
+    others = [c for c in raw.columns if c != id_column and c not in skip]
+    if not others:
+        return pd.DataFrame(index=pd.Index([], name="economy"))
+    ids = raw[id_column].astype(str)
+    grouped = raw[others].groupby(ids)
+    constant = grouped.nunique(dropna=True).le(1).all()
+    kept = grouped.first()[[c for c in others if constant[c]]]
+    kept.index.name = "economy"
+    return kept
+
+
+def _panel_frame(grid: pd.DataFrame, g_plus_delta: float) -> pd.DataFrame:
+    """Canonical log columns of the period panel, with each economy's starting row."""
+    body = pd.DataFrame({"economy": grid["economy"].to_numpy(),
+                         "year": grid["end_year"].to_numpy()})
+    for var, col in _PANEL_LOGS.items():
+        if var in grid.columns:
+            values = grid[var].to_numpy(dtype=float)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                body[col] = np.where(values > 0, np.log(values), np.nan)
+    ngd = grid["workforce_growth"].to_numpy(dtype=float) + g_plus_delta
+    with np.errstate(divide="ignore", invalid="ignore"):
+        body[LOG_COLUMNS["workforce_growth"]] = np.where(ngd > 0, np.log(ngd), np.nan)
+    body["_workforce_growth_level"] = ngd
+    first = grid[grid["period"] == 0]
+    lag = first["income_lag"].to_numpy(dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        start = pd.DataFrame({"economy": first["economy"].to_numpy(),
+                              "year": first["start_year"].to_numpy(),
+                              "ln_y": np.where(lag > 0, np.log(lag), np.nan)})
+    out = pd.concat([start, body], ignore_index=True)
+    return out.sort_values(["economy", "year"], kind="stable").reset_index(drop=True)

@@ -1,0 +1,160 @@
+"""One panel equation on one sample: every estimator asked for, unrestricted and restricted,
+and what each implies through the form table's maps.
+
+The panel form is the growth form over one period with an effect per economy,
+so the maps, restriction and regressors all come from
+:func:`steadyfit.equations.find_form`.  Estimators fit ``ln y(t)`` on
+``ln y(t-1)`` (coefficient ``gamma``) and the form's other regressors; the maps
+read the growth parameterisation, whose coefficient on initial income is
+``gamma - 1`` (the same fit: subtracting the lag from both sides shifts that one
+coefficient by one and changes nothing else).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+
+import numpy as np
+import pandas as pd
+
+from ..data import EconomyTable
+from ..equations import ModelForm
+from ..errors import EstimationError
+from ..estimators import covariance_problem
+from ..filters import evaluate_filter, parse_filter, referenced_columns
+from ..findings import Settings
+from ..inference import implied_from_slopes, normal_estimate, normal_quantile, wald_test
+from ..spec import Spec
+from .design import DynamicPanel
+from .diagnostics import bracket
+from .estimators import estimate
+from .results import EstimatorFindings, PanelFindings, PanelFit
+
+# model variable -> canonical column of the panel, for the spec's [panel].treatment
+_TREATED = {"invest": "ln_sk", "schooling": "ln_sh", "human_stock": "ln_h",
+            "workforce_growth": "ln_ngd"}
+_ORDER = ("exogenous", "predetermined", "endogenous")
+LAG = "ln_y(t-1)"
+
+
+def sample_economies(table: EconomyTable, spec: Spec, sample: str) -> tuple[list[str], int]:
+    """Economies of ``sample`` (the filter read on the economy-level columns) and how many
+    were in it before any had to be left out for a missing filter column."""
+    text = spec.body.samples[sample]
+    where = f"samples.{sample}"
+    node = parse_filter(text, where)
+    frame = table.frame
+    keep = np.ones(len(frame), dtype=bool)
+    for col in referenced_columns(node):
+        if col in frame.columns:
+            keep &= frame[col].notna().to_numpy()
+    keep[keep] = evaluate_filter(node, frame.loc[keep], where)
+    return [str(e) for e in frame.index[keep]], int(keep.sum())
+
+
+def _regressor_columns(frame: pd.DataFrame, form: ModelForm, restricted: bool
+                       ) -> tuple[pd.DataFrame, list[str], dict[str, str]]:
+    """The frame with the form's regressors (other than lagged income) as columns, their
+    names, and each one's treatment key (the canonical columns it combines)."""
+    regs = form.restricted if restricted else form.unrestricted
+    out = frame.copy()
+    names = []
+    parts = {}
+    for r in regs:
+        if r.name == "ln_y0":
+            continue
+        out[r.name] = sum(w * frame[col] for col, w in r.weights.items())
+        names.append(r.name)
+        parts[r.name] = ",".join(r.weights)
+    return out, names, parts
+
+
+def _treatment(parts: Mapping[str, str], asked: Mapping[str, str]) -> dict[str, str]:
+    """Each regressor's treatment: the strictest of the variables it combines."""
+    by_column = {_TREATED[var]: kind for var, kind in asked.items()}
+    out = {}
+    for name, cols in parts.items():
+        kinds = [by_column.get(c, "exogenous") for c in cols.split(",")]
+        out[name] = max(kinds, key=_ORDER.index)
+    return out
+
+
+def estimate_panel_cell(table: EconomyTable, spec: Spec, equation: str, form: ModelForm,
+                        sample: str, settings: Settings) -> PanelFindings:
+    """Every estimator of ``[panel]`` on ``equation`` and ``sample``."""
+    assert table.panel is not None
+    p = spec.body.panel
+    where = f"equation '{equation}' on sample '{sample}'"
+    economies, n_in_sample = sample_economies(table, spec, sample)
+    frame = table.panel.frame
+    frame = frame[frame["economy"].isin(economies)]
+    panels = {}
+    treat = {}
+    for restricted in (False, True):
+        data, names, parts = _regressor_columns(frame, form, restricted)
+        panels[restricted] = DynamicPanel.from_long(data, "economy", "year", "ln_y", names, 1)
+        treat[restricted] = _treatment(parts, p.treatment)
+    fits: dict[str, tuple[PanelFit, PanelFit]] = {}
+    for method in p.estimators:
+        try:
+            pair = tuple(estimate(panels[r], method, steps=p.gmm_steps, max_lag=p.max_lag,
+                                  collapse=p.collapse, treatment=treat[r],
+                                  within_time_effects=p.within_period_effects)
+                         for r in (False, True))
+        except np.linalg.LinAlgError as exc:
+            raise EstimationError(f"the {method} estimate cannot be computed ({exc}): too few "
+                                  "economies or periods, or collinear regressors", where) from None
+        fits[method] = pair  # type: ignore[assignment]
+    found = [_judge(form, method, u, r, settings) for method, (u, r) in fits.items()]
+    if "within" in fits and "pooled_ols" in fits:
+        lo, hi = fits["within"][0].coef[0], fits["pooled_ols"][0].coef[0]
+        found = [f if not f.method.endswith("gmm") else
+                 _with_bracket(f, bracket(f.unrestricted.coef[0], lo, hi)) for f in found]
+    notes = []
+    for f in found:
+        for fit in (f.unrestricted, f.restricted):
+            notes += [f"{f.title}: {w}" for w in fit.warnings]
+    used = sorted({panels[False].economies[e] for f in found for e in _economies_used(f)})
+    return PanelFindings(
+        equation=equation, sample=sample, form_key=form.key, description=form.description,
+        restriction_text=form.restriction_text(spec.body.labels.variables),
+        period_years=p.period_years, shape=tuple(table.panel.shape.lines()),
+        economies=tuple(used), n_in_sample=n_in_sample, estimators=tuple(found),
+        notes=tuple(dict.fromkeys(notes)))
+
+
+def _economies_used(f: EstimatorFindings) -> tuple[int, ...]:
+    codes = f.unrestricted.economy_codes
+    return () if codes is None else tuple(int(c) for c in codes)
+
+
+def _with_bracket(f: EstimatorFindings, check: object) -> EstimatorFindings:
+    from dataclasses import replace
+
+    return replace(f, bracket=check)
+
+
+def _judge(form: ModelForm, method: str, unres: PanelFit, res: PanelFit, settings: Settings
+           ) -> EstimatorFindings:
+    """Restriction test, gamma, implied shares and speed of one estimator."""
+    k_u = unres.slopes
+    reason_u = covariance_problem(unres.slope_cov(), unres.n_economies)
+    wald = None
+    if form.restricts:
+        r = np.zeros(len(unres.coef))
+        r[:k_u] = form.restriction
+        wald = wald_test("Wald test of the restriction (clustered by economy)",
+                         form.restriction_text(), r, unres.coef, unres.cov, reason_u)
+    c = res.slope_coef().copy()
+    c[0] -= 1.0  # the growth parameterisation the maps read
+    v = res.slope_cov()
+    reason = covariance_problem(v, res.n_economies)
+    se = np.sqrt(np.maximum(np.diag(v), 0.0))
+    z = normal_quantile(settings.confidence)
+    ci = np.column_stack([c - z * se, c + z * se])
+    shares, speed, problem = implied_from_slopes(form, c, v, ci, reason, settings.confidence,
+                                                 settings.bands, settings.points)
+    gamma = normal_estimate("gamma", float(res.coef[0]), float(v[0, 0]) if reason is None
+                            else math.nan, settings.confidence, reason=reason)
+    return EstimatorFindings(method, unres, res, wald, gamma, shares, speed, problem)
