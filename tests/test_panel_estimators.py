@@ -148,7 +148,7 @@ def test_windmeijer_equals_a_numerical_derivative(emplUK, system):
     k = len(one.coef)
     D = np.empty((k, k))
     for j in range(k):
-        h = 1e-4 * max(1.0, abs(one.coef[j]))  # central differences: error of order h²
+        h = 1e-5 * max(1.0, abs(one.coef[j]))  # central differences: error of order h²
         up, down = one.coef.copy(), one.coef.copy()
         up[j] += h
         down[j] -= h

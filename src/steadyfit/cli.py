@@ -148,6 +148,19 @@ def _check(spec_path: Path) -> int:
             f"{len(c.selection.dropped)} dropped{extra}", "  ", "    ")
         for drop in c.selection.dropped:
             say(f"{drop.economy}: {drop.reason}", "      - ", "        ")
+    if p.table.panel is not None:
+        panel = p.table.panel
+        print(f"\nperiod panel ({panel.length}-year periods from {panel.first_year}):")
+        for line in panel.shape.lines():
+            say(line, "  ", "    ")
+        methods = ", ".join(p.spec.body.panel.estimators)
+        for cell in p.panels:
+            say(f"{cell.equation} [{cell.form.key}] on {cell.sample}: {methods}", "  ", "    ")
+        for miss in panel.missing[:10]:
+            say(f"{miss.economy} {miss.year}: {miss.reason}", "      - ", "        ")
+        if len(panel.missing) > 10:
+            say(f"and {len(panel.missing) - 10} more economy-periods that could not be built",
+                "      - ", "        ")
     if p.spec.body.target:
         print(f"\n{len(p.spec.body.target)} replication targets will be checked")
     return 0

@@ -11,7 +11,7 @@ from __future__ import annotations
 import csv
 import hashlib
 from collections.abc import Collection, Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 from typing import TYPE_CHECKING, NoReturn
 
@@ -62,6 +62,8 @@ class EconomyTable:
     warnings: tuple[str, ...]
     panel: PanelTable | None = None  # annual data: the period panel
     span: tuple[int, int] | None = None  # annual data: the cross-section's first and last year
+    # annual data: economies without a complete cross-section over the span, and why
+    absent: Mapping[str, str] = field(default_factory=dict)
 
     def __repr__(self) -> str:
         panel = f", {self.panel!r}" if self.panel is not None else ""
@@ -440,7 +442,8 @@ def select(table: EconomyTable, spec: Spec, sample: str, form: ModelForm) -> Sel
         missing = raw.isna().to_numpy()
         nonpos = (~missing) & (level <= 0).to_numpy()
         for economy in in_sample.index[missing & used]:
-            dropped.append(Dropped(economy, f"missing {var} ('{col}')"))
+            dropped.append(Dropped(economy, table.absent.get(economy)
+                                   or f"missing {var} ('{col}')"))
         bad = nonpos & used
         if bad.any():
             economy = in_sample.index[bad][0]

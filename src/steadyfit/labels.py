@@ -14,7 +14,7 @@ if TYPE_CHECKING:
     from .findings import TestResult
 
 MINUS = "\u2212"
-ALPHA, BETA, LAMBDA, DELTA = "\u03b1", "\u03b2", "\u03bb", "\u03b4"
+ALPHA, BETA, LAMBDA, DELTA, GAMMA = "\u03b1", "\u03b2", "\u03bb", "\u03b4", "\u03b3"
 CHI2 = "\u03c7\u00b2"
 R2 = "R\u00b2"
 NGD = f"n + g + {DELTA}"
@@ -25,7 +25,7 @@ SYMBOLS = {"income": "y", "income_start": "y\u2080", "invest": "s\u2096",
 
 # quantity names (see steadyfit.quantities) as tables print them
 QUANTITY_LABELS = {"alpha": ALPHA, "beta": BETA, "alpha+beta": f"{ALPHA} + {BETA}",
-                   "lam": LAMBDA, "half_life": "half-life"}
+                   "lam": LAMBDA, "half_life": "half-life", "gamma": GAMMA}
 
 
 def display(identifier: str) -> str:

@@ -111,8 +111,8 @@ def load_annual(spec: Spec) -> EconomyTable:
     years = annual.frame["year"]
     first, last = data.span if data.span is not None else (int(years.min()), int(years.max()))
     span = cross_section(annual, first, last)
-    warnings += _shorten(span.dropped, f"economies without a complete cross-section over "
-                         f"{first}\u2013{last}")
+    absent = {d.economy: f"no complete cross-section over {first}\u2013{last}: {d.reason}"
+              for d in span.dropped}
 
     economies = pd.Index(sorted(annual.frame["economy"].unique()), name="economy")
     frame = span.frame.reindex(economies)
@@ -127,7 +127,7 @@ def load_annual(spec: Spec) -> EconomyTable:
     panel = PanelTable(_panel_frame(built.frame, body.assumptions.g_plus_delta),
                        built.length, built.first_year, built.shape, built.missing)
     return EconomyTable(frame, path, table.sha256, data.id, cs_variables, tuple(warnings),
-                        panel, (first, last))
+                        panel, (first, last), absent)
 
 
 def _constant_columns(raw: pd.DataFrame, id_column: str, skip: set[str]) -> pd.DataFrame:

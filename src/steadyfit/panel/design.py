@@ -297,7 +297,13 @@ def gmm_design(panel: DynamicPanel, system: bool = False, max_lag: int | None = 
     cols = [X]
     zcols = [Z]
     if time_effects:
-        used = sorted(set(t_d.tolist()))
+        # one effect per period the differences reach: in levels its dummy, in differences
+        # the dummy's change.  The differenced equation alone identifies only changes, so
+        # there the periods of its rows suffice; system GMM also needs the level of the
+        # effect in the period before each differenced row (else the first period's change
+        # would tie the levels equation's intercept to zero)
+        reached = set(t_d.tolist())
+        used = sorted(reached | ({p - 1 for p in reached} if system else set()))
         d = _time_columns(t, block, used)
         cols.append(d)
         zcols.append(d)

@@ -17,6 +17,7 @@ matplotlib is imported inside functions only, so ``steadyfit --help`` stays fast
 from __future__ import annotations
 
 import functools
+import math
 import re
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
@@ -24,8 +25,9 @@ from typing import Any
 
 import numpy as np
 
-from ..findings import EquationFindings, Findings
+from ..findings import EquationFindings, Estimate, Findings
 from ..labels import quantity_label, signed
+from ..panel.results import PanelFindings
 from ..workers import cores, run_forked
 from .canvas import (
     FONT,
@@ -255,11 +257,49 @@ def convergence_figure(r: EquationFindings, formats: Sequence[str] = ("svg",)) -
                      "both axes." if len(panels) > 1 else ""), svg, pdf)
 
 
+def _interval_rows(fig: Any, p: Panel,
+                   items: Sequence[tuple[float, Estimate | None, tuple[float, float] | None]]
+                   ) -> None:
+    """One row per item at its height: the shaded band (when given), the interval as a bar
+    with end caps and the point; a point alone when there is no interval (said beside it);
+    the estimate's word ("none", "no convergence") where there is no number."""
+    from matplotlib.collections import LineCollection, PolyCollection
+    from matplotlib.text import Annotation
+
+    bands, bars, caps, points = [], [], [], []
+    for ypos, e, band in items:
+        if band is not None:
+            b0, b1 = band
+            bands.append([(b0, ypos - 0.4), (b1, ypos - 0.4), (b1, ypos + 0.4), (b0, ypos + 0.4)])
+        if e is None:
+            continue
+        if e.has_se:
+            bars.append([(e.low, ypos), (e.high, ypos)])
+            caps += [(e.low, ypos), (e.high, ypos)]
+            points.append((e.value, ypos))
+        elif e.has_value:
+            points.append((e.value, ypos))
+            fig.add_artist(Annotation("no interval (see the notes)", (e.value, ypos),
+                                      xycoords=p.data, xytext=(5, 4),
+                                      textcoords="offset points", fontsize=7))
+        else:
+            add_text(fig, sum(p.xlim) / 2, ypos, e.missing, p.data, ha="center", va="center",
+                     fontsize=8)
+    if bands:
+        place(fig, p, PolyCollection(bands, facecolors="0.88", edgecolors="none", zorder=0))
+    if bars:
+        place(fig, p, LineCollection(bars, colors="black", linewidths=1.0))
+        cx, cy = zip(*caps, strict=True)
+        add_line(fig, p, cx, cy, linestyle="none", marker="|", markersize=6, color="black",
+                 markeredgewidth=1.0)
+    if points:
+        px, py = zip(*points, strict=True)
+        add_line(fig, p, px, py, linestyle="none", marker="o", color="black", markersize=4)
+
+
 def shares_figure(findings: Findings, formats: Sequence[str] = ("svg",)) -> Figure | None:
     """Every implied share with its interval, over its shaded plausibility band."""
     import matplotlib as mpl
-    from matplotlib.collections import LineCollection, PolyCollection
-    from matplotlib.text import Annotation
 
     formats = _check_formats(formats)
     rows = [(r, v) for r in findings.results for v in r.shares if v.band is not None]
@@ -283,40 +323,73 @@ def shares_figure(findings: Findings, formats: Sequence[str] = ("svg",)) -> Figu
                ytick_length=0.0)
     with mpl.rc_context(STYLE):
         fig = layout(7.0, row * n + 0.2 * row / 0.3, title, (p,))
-        bands, bars, caps, points = [], [], [], []
-        for i, (_, v) in enumerate(rows):
-            ypos = float(n - 1 - i)
-            assert v.band is not None
-            b0, b1 = v.band
-            bands.append([(b0, ypos - 0.4), (b1, ypos - 0.4), (b1, ypos + 0.4), (b0, ypos + 0.4)])
-            e = v.estimate
-            if e.has_se:
-                bars.append([(e.low, ypos), (e.high, ypos)])
-                caps += [(e.low, ypos), (e.high, ypos)]
-                points.append((e.value, ypos))
-            elif e.has_value:
-                points.append((e.value, ypos))
-                fig.add_artist(Annotation("no interval (see the notes)", (e.value, ypos),
-                                          xycoords=p.data, xytext=(5, 4),
-                                          textcoords="offset points", fontsize=7))
-            else:
-                add_text(fig, 0.5, ypos, e.missing, p.data, ha="center", va="center", fontsize=8)
-        place(fig, p, PolyCollection(bands, facecolors="0.88", edgecolors="none", zorder=0))
         add_line(fig, p, [1.0, 1.0], list(p.ylim), color="black", linestyle=":", linewidth=0.8)
-        if bars:
-            place(fig, p, LineCollection(bars, colors="black", linewidths=1.0))
-            cx, cy = zip(*caps, strict=True)
-            add_line(fig, p, cx, cy, linestyle="none", marker="|", markersize=6, color="black",
-                  markeredgewidth=1.0)
-        if points:
-            px, py = zip(*points, strict=True)
-            add_line(fig, p, px, py, linestyle="none", marker="o", color="black", markersize=4)
+        _interval_rows(fig, p, [(float(n - 1 - i), v.estimate, v.band)
+                                for i, (_, v) in enumerate(rows)])
         svg, pdf = export(fig, formats, title)
     return Figure("implied_shares", title,
                   "Each row names its equation and sample. Grey: the plausible band of each "
                   f"share; bars: {pct}% intervals. Beyond the dotted line at 1 no steady state "
                   "exists; the axis stops at 2.",
                   svg, pdf)
+
+
+def panel_figure(findings: Findings, p: PanelFindings, formats: Sequence[str] = ("svg",)
+                 ) -> Figure | None:
+    """Speed of convergence and capital share by panel estimator, with their intervals, and
+    the cross-section growth form on the same sample beside them (the share over its band)."""
+    import matplotlib as mpl
+
+    formats = _check_formats(formats)
+    rows: list[tuple[str, Estimate | None, Estimate | None]] = [
+        (f.title, f.speed_estimate("lam"), f.share("alpha").estimate if f.share("alpha")
+         else None) for f in p.estimators]
+    twin = p.form_key.replace("panel:", "growth:")
+    rows += [(f"cross-section: {r.heading}", r.speed_estimate("lam"),
+              r.share("alpha").estimate if r.share("alpha") else None)
+             for r in findings.results if r.form_key == twin and r.sample == p.sample]
+    if not rows:
+        return None
+    pct = round(findings.settings.confidence * 100)
+    band = findings.settings.bands.get("alpha")
+    n = len(rows)
+
+    def reach(kind: int, floor: tuple[float, ...]) -> tuple[float, float]:
+        ends = list(floor)
+        for row in rows:
+            e = row[kind]
+            if isinstance(e, Estimate) and e.has_value:
+                ends += [e.low, e.high] if e.has_se else [e.value]
+        return limits([x for x in ends if math.isfinite(x)])
+
+    labels = [wrap(label, FONT, _ROW_LABEL * 0.8) for label, _, _ in rows]
+    ticks = [(float(n - 1 - i), label) for i, label in enumerate(labels)]
+    lines = max(label.count("\n") + 1 for label in labels)
+    row = max(0.3, (lines * LINE_SPACING * FONT + 6.0) / 72.0)
+    title = f"Convergence and capital share by estimator: {p.heading}"
+    speed = Panel(reach(1, (0.0,)), (-0.6, n - 0.4),
+                  f"{quantity_label('lam')} per year ({pct}% interval)", "", "Speed of convergence",
+                  yticks=ticks, ytick_length=0.0)
+    share = Panel(reach(2, (0.0, *(band or ()))), (-0.6, n - 0.4),
+                  f"{quantity_label('alpha')} ({pct}% interval)", "",
+                  "Capital share (grey: plausible band)",
+                  yticks=[(y, "") for y, _ in ticks], ytick_length=0.0)
+    with mpl.rc_context(STYLE):
+        fig = layout(8.0, row * n + 0.2 * row / 0.3, title, (speed, share))
+        add_line(fig, speed, [0.0, 0.0], list(speed.ylim), color="black", linestyle=":",
+                 linewidth=0.8)
+        _interval_rows(fig, speed, [(y, lam, None) for (y, _), (_, lam, _) in
+                                    zip(ticks, rows, strict=True)])
+        _interval_rows(fig, share, [(y, alpha, band) for (y, _), (_, _, alpha) in
+                                    zip(ticks, rows, strict=True)])
+        svg, pdf = export(fig, formats, title)
+    return Figure(f"panel_{_slug(p.equation)}_{_slug(p.sample)}", title,
+                  f"{p.heading}: {quantity_label('lam')} and {quantity_label('alpha')} implied by "
+                  f"each panel estimator's restricted fit with {pct}% delta-method intervals"
+                  + (", and by the cross-section growth form on the same sample" if n >
+                     len(p.estimators) else "")
+                  + "; dotted: no convergence. Pooled OLS and within are known to be biased in "
+                  "opposite directions.", svg, pdf)
 
 
 # --- all figures of a run, on one core or more ----------------------------------------------
@@ -342,6 +415,8 @@ def _jobs(findings: Findings, formats: tuple[str, ...]
                 jobs.append((k * points(r), functools.partial(partial_figure, r, formats)))
         if "ln_y0" in r.unrestricted.names:
             jobs.append((2 * points(r), functools.partial(convergence_figure, r, formats)))
+    jobs += [(2.0, functools.partial(panel_figure, findings, p, formats))
+             for p in findings.panels]
     return jobs
 
 

@@ -133,7 +133,9 @@ def report_tables(findings: Findings) -> list[Table]:
     if any(r.crosscheck for r in findings.results):
         out.append(crosscheck_table(findings))
     structural = structural_table(findings)
-    return out + ([structural] if structural else [])
+    from .panel import panel_tables
+
+    return out + ([structural] if structural else []) + panel_tables(findings)
 
 
 def render_html_fragment(findings: Findings) -> str:

@@ -15,7 +15,8 @@ from typing import Any
 
 from ..estimators import Fit
 from ..findings import EquationFindings, Estimate, Findings, ShareVerdict, TestResult
-from ..quantities import canonical, quantities, unavailable
+from ..panel.results import PanelFindings, PanelFit
+from ..quantities import canonical, panel_quantities, quantities, unavailable
 
 # 2: "reason" beside every number that is not available.
 # 3: keys in steadyfit's own words: a fit's nobs, df_resid, r2, adj_r2, ser and ssr became
@@ -134,6 +135,56 @@ def _result(r: EquationFindings, confidence: float) -> dict[str, Any]:
     }
 
 
+def _panel_fit(f: PanelFit) -> dict[str, Any]:
+    return {
+        "coefficients": [{"name": n, "estimate": _num(b), "se": _num(se)}
+                         for n, b, se in zip(f.names, f.coef, f.se, strict=True)],
+        "covariance_matrix": [[_num(v) for v in row] for row in f.cov],
+        "slopes": f.slopes,
+        "observations": f.nobs,
+        "economies": f.n_economies,
+        "periods": f.n_periods,
+        "instruments": f.n_instruments,
+        "steps": f.steps,
+        "tests": [_test(t) for t in f.tests],
+        "warnings": list(f.warnings),
+    }
+
+
+def _panel(p: PanelFindings) -> dict[str, Any]:
+    values, why = panel_quantities(p)
+    return {
+        "equation": p.equation,
+        "sample": p.sample,
+        "form": p.form_key,
+        "description": p.description,
+        "restriction": p.restriction_text,
+        "period_years": p.period_years,
+        "shape": list(p.shape),
+        "n_in_sample": p.n_in_sample,
+        "economies": list(p.economies),
+        "estimators": [{
+            "method": e.method,
+            "title": e.title,
+            "assumes": e.assumes,
+            "unrestricted": _panel_fit(e.unrestricted),
+            "restricted": _panel_fit(e.restricted),
+            "restriction_test": _test(e.wald_test) if e.wald_test else None,
+            "gamma": _estimate(e.gamma),
+            "implied_shares": [_verdict(v) for v in e.shares],
+            "convergence": [_estimate(x) for x in e.speed],
+            "problem": e.problem,
+            "bracket": None if e.bracket is None else {
+                "estimate": e.bracket.estimate, "within": e.bracket.within,
+                "pooled": e.bracket.pooled, "inside": e.bracket.inside,
+                "sentence": e.bracket.sentence},
+        } for e in p.estimators],
+        "notes": list(p.notes),
+        "quantities": {k: _num(v) for k, v in values.items()},
+        "unavailable": why,
+    }
+
+
 def to_record(findings: Findings, run: dict[str, Any]) -> dict[str, Any]:
     """Every number of the run as plain JSON-able data, with provenance."""
     s = findings.settings
@@ -168,6 +219,7 @@ def to_record(findings: Findings, run: dict[str, Any]) -> dict[str, Any]:
              "difference": _estimate(c.difference), "test": _test(c.test),
              "joint_covariance": c.joint_covariance, "clusters": c.n_clusters}
             for c in findings.consistency],
+        **({"panels": [_panel(p) for p in findings.panels]} if findings.panels else {}),
         "warnings": list(findings.warnings),
         "caveats": list(findings.caveats),
         "provenance": asdict(findings.provenance),

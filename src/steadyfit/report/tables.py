@@ -564,5 +564,8 @@ def all_tables(findings: Findings) -> tuple[Table, ...]:
     for optional in (structural_table(findings), consistency_table(findings)):
         if optional is not None:
             out.append(optional)
+    from .panel import panel_tables
+
+    out += panel_tables(findings)
     out += [samples_table(findings), dropped_table(findings)]
     return tuple(out)

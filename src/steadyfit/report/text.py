@@ -143,7 +143,12 @@ def render_text(findings: Findings, tables: tuple[Table, ...] | None = None,
             parts += _wrap(f"{r.problem}.", width, f"note ({r.heading}): ")
         for note in r.notes:
             parts += _wrap(note, width, f"note ({r.heading}): ")
-    for table in tables or (compact_table(findings),):
+    if tables is None:
+        from .panel import panel_key_table
+
+        panels = panel_key_table(findings)
+        tables = (compact_table(findings),) + ((panels,) if panels else ())
+    for table in tables:
         parts += ["", render_table_text(table, findings.settings.digits, width, colour)]
     lines = consistency_lines(findings)
     if lines:
