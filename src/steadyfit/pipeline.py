@@ -227,6 +227,11 @@ def caveats(spec: Spec, table: EconomyTable) -> tuple[str, ...]:
                    "treated as given. Intervals for \u03bb and the half-life come from the "
                    "delta method and from mapping the endpoints of the initial-income "
                    "coefficient's interval.")
+    if any(e.form == "panel" for e in b.equation):
+        out.append("Panel equations: each estimator rests on its own assumptions (see the panel "
+                   "table's notes); pooled OLS and within are biased in opposite directions, "
+                   "and GMM estimates are only as good as their instruments, which the "
+                   "AR(2), over-identification and bracket checks probe but cannot prove.")
     out.append("Cross-country regressions describe associations across economies; they do not "
                "by themselves say what a policy would do in any one of them.")
     return tuple(out)

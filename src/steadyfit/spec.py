@@ -190,7 +190,7 @@ class PanelSpec(_Record):
     period_years: int = Field(5, ge=1, le=50)
     first_year: int | None = None
     last_year: int | None = None
-    estimators: tuple[Method, ...] = Field(METHODS, min_length=1)
+    estimators: tuple[Method, ...] = Field(METHODS, min_length=1)  # type: ignore[arg-type]
     gmm_steps: Literal[1, 2] = 2
     max_lag: int | None = Field(None, ge=1)
     collapse: StrictBool = False

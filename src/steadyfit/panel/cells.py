@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping
+from typing import cast
 
 import numpy as np
 import pandas as pd
@@ -26,8 +27,8 @@ from ..filters import evaluate_filter, parse_filter, referenced_columns
 from ..findings import Settings
 from ..inference import implied_from_slopes, normal_estimate, normal_quantile, wald_test
 from ..spec import Spec
-from .design import DynamicPanel
-from .diagnostics import bracket
+from .design import DynamicPanel, Treatment
+from .diagnostics import BracketCheck, bracket
 from .estimators import estimate
 from .results import EstimatorFindings, PanelFindings, PanelFit
 
@@ -70,13 +71,13 @@ def _regressor_columns(frame: pd.DataFrame, form: ModelForm, restricted: bool
     return out, names, parts
 
 
-def _treatment(parts: Mapping[str, str], asked: Mapping[str, str]) -> dict[str, str]:
+def _treatment(parts: Mapping[str, str], asked: Mapping[str, str]) -> dict[str, Treatment]:
     """Each regressor's treatment: the strictest of the variables it combines."""
     by_column = {_TREATED[var]: kind for var, kind in asked.items()}
-    out = {}
+    out: dict[str, Treatment] = {}
     for name, cols in parts.items():
         kinds = [by_column.get(c, "exogenous") for c in cols.split(",")]
-        out[name] = max(kinds, key=_ORDER.index)
+        out[name] = cast(Treatment, max(kinds, key=_ORDER.index))
     return out
 
 
@@ -129,7 +130,7 @@ def _economies_used(f: EstimatorFindings) -> tuple[int, ...]:
     return () if codes is None else tuple(int(c) for c in codes)
 
 
-def _with_bracket(f: EstimatorFindings, check: object) -> EstimatorFindings:
+def _with_bracket(f: EstimatorFindings, check: BracketCheck) -> EstimatorFindings:
     from dataclasses import replace
 
     return replace(f, bracket=check)

@@ -102,6 +102,10 @@ class EstimatorFindings:
     def share(self, name: str) -> ShareVerdict | None:
         return next((s for s in self.shares if s.name == name), None)
 
+    def share_estimate(self, name: str) -> Estimate | None:
+        found = self.share(name)
+        return None if found is None else found.estimate
+
     def speed_estimate(self, name: str) -> Estimate | None:
         return next((e for e in self.speed if e.name == name), None)
 

@@ -342,12 +342,13 @@ def panel_figure(findings: Findings, p: PanelFindings, formats: Sequence[str] = 
 
     formats = _check_formats(formats)
     rows: list[tuple[str, Estimate | None, Estimate | None]] = [
-        (f.title, f.speed_estimate("lam"), f.share("alpha").estimate if f.share("alpha")
-         else None) for f in p.estimators]
+        (f.title, f.speed_estimate("lam"), f.share_estimate("alpha")) for f in p.estimators]
     twin = p.form_key.replace("panel:", "growth:")
-    rows += [(f"cross-section: {r.heading}", r.speed_estimate("lam"),
-              r.share("alpha").estimate if r.share("alpha") else None)
-             for r in findings.results if r.form_key == twin and r.sample == p.sample]
+    for r in findings.results:
+        if r.form_key == twin and r.sample == p.sample:
+            alpha = r.share("alpha")
+            rows.append((f"cross-section: {r.heading}", r.speed_estimate("lam"),
+                         alpha.estimate if alpha else None))
     if not rows:
         return None
     pct = round(findings.settings.confidence * 100)

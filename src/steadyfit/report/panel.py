@@ -56,7 +56,7 @@ def panel_table(findings: Findings, p: PanelFindings) -> Table:
         cells = []
         for f in est:
             e = (f.speed_estimate(name) if name in ("lam", "half_life") else
-                 (f.share(name).estimate if f.share(name) is not None else None))
+                 f.share_estimate(name))
             cells.append(estimate_cell(e, reasons, f"{quantity_label(name)}, {f.title}"))
         rows.append(Row(quantity_label(name), tuple(cells),
                         "Implied by the restricted fit" if first else None))
@@ -130,7 +130,7 @@ def panel_key_table(findings: Findings) -> Table | None:
         for i, f in enumerate(p.estimators):
             where = f"{p.heading}, {f.title}"
             numbers = [f.gamma, f.speed_estimate("lam"),
-                       *(f.share(s).estimate if f.share(s) else None for s in shares)]
+                       *(f.share_estimate(s) for s in shares)]
             cells = [_narrow(estimate_cell(e, reasons, where, se=False)) for e in numbers]
             cells += [_test_p(f.wald_test, reasons, where),
                       _test_p(_find(f, "AR(2)"), reasons, where),
