@@ -64,6 +64,7 @@ class EconomyTable:
     span: tuple[int, int] | None = None  # annual data: the cross-section's first and last year
     # annual data: economies without a complete cross-section over the span, and why
     absent: Mapping[str, str] = field(default_factory=dict)
+    file_rows: int | None = None  # annual data: rows of the file (economies times years)
 
     def __repr__(self) -> str:
         panel = f", {self.panel!r}" if self.panel is not None else ""

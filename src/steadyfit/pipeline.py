@@ -268,7 +268,7 @@ def run(spec: Spec | str | Path) -> Findings:
         spec_sha256=p.spec.sha256,
         data_path=str(p.table.path),
         data_sha256=p.table.sha256,
-        data_rows=p.table.n_economies,
+        data_rows=p.table.file_rows if p.table.file_rows is not None else p.table.n_economies,
         versions=_versions(),
     )
     by_cell = {(r.equation, r.sample): (quantities(r), unavailable(r)) for r in results}

@@ -16,7 +16,7 @@ rates to fractions, total income to income per worker), and builds with
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 import pandas as pd
@@ -119,15 +119,15 @@ def load_annual(spec: Spec) -> EconomyTable:
     frame = frame.join(_constant_columns(raw, data.id, {data.year, *variables.values()}))
     cs_variables = {v: v for v in span.frame.columns}
     add_log_columns(frame, cs_variables, (), body.assumptions.g_plus_delta)
-    table = EconomyTable(frame, path, file_sha256(path), data.id, cs_variables, tuple(warnings))
+    table = EconomyTable(frame, path, file_sha256(path), data.id, cs_variables, tuple(warnings),
+                         span=(first, last), absent=absent, file_rows=len(raw))
     if not any(e.form == "panel" for e in body.equation):
         return table
     p = body.panel
     built = period_panel(annual, p.period_years, p.first_year, p.last_year)
     panel = PanelTable(_panel_frame(built.frame, body.assumptions.g_plus_delta),
                        built.length, built.first_year, built.shape, built.missing)
-    return EconomyTable(frame, path, table.sha256, data.id, cs_variables, tuple(warnings),
-                        panel, (first, last), absent)
+    return replace(table, panel=panel)
 
 
 def _constant_columns(raw: pd.DataFrame, id_column: str, skip: set[str]) -> pd.DataFrame:

@@ -92,10 +92,13 @@ def estimate_panel_cell(table: EconomyTable, spec: Spec, equation: str, form: Mo
     frame = frame[frame["economy"].isin(economies)]
     panels = {}
     treat = {}
+    kept = ["economy", "year", "ln_y"]
     for restricted in (False, True):
         data, names, parts = _regressor_columns(frame, form, restricted)
         panels[restricted] = DynamicPanel.from_long(data, "economy", "year", "ln_y", names, 1)
         treat[restricted] = _treatment(parts, p.treatment)
+        frame = data
+        kept += [n for n in names if n not in kept]
     fits: dict[str, tuple[PanelFit, PanelFit]] = {}
     for method in p.estimators:
         try:
@@ -122,7 +125,7 @@ def estimate_panel_cell(table: EconomyTable, spec: Spec, equation: str, form: Mo
         restriction_text=form.restriction_text(spec.body.labels.variables),
         period_years=p.period_years, shape=tuple(table.panel.shape.lines()),
         economies=tuple(used), n_in_sample=n_in_sample, estimators=tuple(found),
-        notes=tuple(dict.fromkeys(notes)))
+        notes=tuple(dict.fromkeys(notes)), data=frame[kept].reset_index(drop=True))
 
 
 def _economies_used(f: EstimatorFindings) -> tuple[int, ...]:

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
@@ -127,6 +127,8 @@ class PanelFindings:
     notes: tuple[str, ...] = ()
     equation_label: str | None = None
     sample_label: str | None = None
+    # the period panel as estimated: economy, end year, log income, the regressors' columns
+    data: pd.DataFrame | None = field(default=None, compare=False, repr=False)
 
     def __repr__(self) -> str:
         return (f"PanelFindings({self.column} [{self.form_key}], {len(self.economies)} "

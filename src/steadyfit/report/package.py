@@ -25,6 +25,7 @@ from .markdown import render_table_md
 from .tables import Cell, Row, Table
 
 ANALYSIS_CSV = "data/analysis.csv"
+PANEL_CSV = "data/panel_"  # + <equation>_<sample>.csv
 CODEBOOK_CSV = "data/codebook.csv"
 CODEBOOK_MD = "data/codebook.md"
 CODEBOOK_FIELDS = ("column", "meaning", "unit", "source_column", "transformation", "role",
@@ -304,6 +305,11 @@ _WHAT = (
     ("tables/", "every table as Markdown (.md) and booktabs LaTeX (.tex), the descriptive "
                 "statistics by sample (descriptives) and the correlations of the regressors "
                 "(correlations) among them"),
+    (PANEL_CSV, "the period panel of each panel equation and sample as estimated "
+                "(`panel_<equation>_<sample>.csv`): economy, the period's end year, log income "
+                "per worker (`ln_y`; the previous row of an economy is its initial income) "
+                "and each regressor's column; a row of a period that could not be built has "
+                "missing values, gaps are never closed up"),
     ("figures/", "the figures"),
     ("inputs/", "the spec and, when at most 20 MB, the data file, as the run read them"),
 )
@@ -324,7 +330,7 @@ def render_readme(findings: Findings, run: Mapping[str, Any], paths: Iterable[st
            f"Made {run.get('created', '')} by steadyfit {versions.get('steadyfit', '')}.", "",
            "## Files", ""]
     for name, what in _WHAT:
-        if any(p == name or (name.endswith("/") and p.startswith(name)) for p in paths):
+        if any(p == name or (name.endswith(("/", "_")) and p.startswith(name)) for p in paths):
             out.append(f"- `{name}`: {what}")
     out += ["", "## How it was made", "", "Command:", "",
             f"    {shlex.join(str(c) for c in command)}", "",
@@ -366,6 +372,10 @@ def package_files(findings: Findings, run: Mapping[str, Any], paths: Iterable[st
     files = {ANALYSIS_CSV: analysis_csv(findings), CODEBOOK_CSV: codebook_csv(findings),
              CODEBOOK_MD: codebook_md(findings), "references.txt": references_text(findings),
              "references.bib": references_bibtex(findings)}
+    for p in findings.panels:
+        if p.data is not None:
+            files[f"{PANEL_CSV}{p.equation}_{p.sample}.csv"] = p.data.to_csv(
+                index=False, float_format="%.17g", lineterminator="\n")
     files["README.md"] = render_readme(findings, run, [*paths, *files, "README.md"],
                                        files[ANALYSIS_CSV])
     return files
