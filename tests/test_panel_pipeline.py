@@ -189,3 +189,23 @@ def test_panel_csv_of_the_run_folder_refits_the_estimates(cli_run):
             again = estimate(panel, entry["method"])
             ours = [c["estimate"] for c in entry[fit]["coefficients"]]
             np.testing.assert_allclose(again.coef, ours, rtol=0, atol=1e-10)
+
+
+def test_compare_reads_the_panels(sumhes, cli_run):
+    """Two runs differing in the GMM steps: compare lists the panel quantities that moved and
+    reads the panels' verdicts (restriction, bands, AR(2), bracket)."""
+    from steadyfit.compare import compare_runs, record_verdicts
+    from steadyfit.report.runfolder import write_run
+
+    other = sumhes / "one_step.toml"
+    other.write_text(SPEC.replace("first_year = 1960", "first_year = 1960\ngmm_steps = 1"),
+                     encoding="utf-8")
+    folder = write_run(steadyfit.run(other), sumhes / "other")
+    c = compare_runs(cli_run, folder)
+    moved = {ch.quantity for ch in c.changes if ch.equation == "panel"}
+    assert "difference_gmm:gamma" in moved and "system_gmm:alpha" in moved
+    assert "within:gamma" not in moved  # the one-step option leaves the others alone
+    verdicts = record_verdicts(json.loads((cli_run / "results.json").read_text("utf-8")))
+    whats = {what for (eq, _, what) in verdicts if eq == "panel"}
+    assert "system GMM, two steps: within-to-pooled bracket" in whats
+    assert "difference GMM, two steps: AR(2)" in whats

@@ -110,8 +110,9 @@ def _flat(d: dict[str, Any], prefix: str = "") -> dict[str, Any]:
 
 
 def _cells(record: dict[str, Any]) -> list[dict[str, Any]]:
-    """Results, plus each levels-versus-growth comparison as a cell of its own."""
-    cells = list(record.get("results", []))
+    """Results and panel results, plus each levels-versus-growth comparison as a cell of its
+    own."""
+    cells = list(record.get("results", [])) + list(record.get("panels", []))
     pairs: dict[tuple[str, str], dict[str, Any]] = {}
     for c in record.get("consistency", []):
         key = (f"{c['levels_equation']} vs {c['growth_equation']}", c["sample"])
@@ -175,6 +176,27 @@ def record_verdicts(record: dict[str, Any]) -> dict[tuple[str, str, str], Verdic
             if share.get("band") is not None:
                 status = share.get("band_status") or NOT_AVAILABLE
                 out[(*cell, f"{share['name']} against its band")] = status, status
+    for p in record.get("panels", []):
+        cell = (p["equation"], p["sample"])
+        for e in p.get("estimators", []):
+            title = e.get("title", e.get("method", ""))
+            w = _test_verdict(e.get("restriction_test"), level, ("rejected", "not rejected"),
+                              at)
+            if w is not None:
+                out[(*cell, f"{title}: restriction (Wald test)")] = w
+            for share in e.get("implied_shares", []):
+                if share.get("band") is not None:
+                    status = share.get("band_status") or NOT_AVAILABLE
+                    out[(*cell, f"{title}: {share['name']} against its band")] = status, status
+            tests = {t.get("name", ""): t for t in e.get("unrestricted", {}).get("tests", [])}
+            ar2 = next((t for n, t in tests.items() if n.startswith("AR(2)")), None)
+            w = _test_verdict(ar2, level, ("second-order correlation",
+                                           "no second-order correlation"), at)
+            if w is not None:
+                out[(*cell, f"{title}: AR(2)")] = w
+            if e.get("bracket") is not None:
+                inside = "inside" if e["bracket"]["inside"] else "outside"
+                out[(*cell, f"{title}: within-to-pooled bracket")] = inside, inside
     for c in record.get("consistency", []):
         pair = f"{c['levels_equation']} vs {c['growth_equation']}"
         out[(pair, c["sample"], f"{c['quantity']}, levels against growth")] = (
