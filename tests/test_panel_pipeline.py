@@ -209,3 +209,11 @@ def test_compare_reads_the_panels(sumhes, cli_run):
     whats = {what for (eq, _, what) in verdicts if eq == "panel"}
     assert "system GMM, two steps: within-to-pooled bracket" in whats
     assert "difference GMM, two steps: AR(2)" in whats
+
+
+def test_conclusion_counts_the_panels(sumhes):
+    from steadyfit.report.verdicts import conclusion
+
+    text = conclusion(steadyfit.run(sumhes / "sumhes.toml"))
+    assert "in the dynamic panels, the restriction is rejected at the 5% level by" in text
+    assert "of 5 estimators" in text and "of 2 GMM estimates of γ" in text

@@ -139,9 +139,33 @@ def conclusion(findings: Findings) -> str:
         parts.append(text)
     n = len(findings.results)
     head = f"Across {_count(n, 'result')} (equations \u00d7 samples)"
+    panels = _panel_clause(findings, level)
     if not parts:
+        if panels:
+            return f"In the dynamic panels, {panels}."
         return f"{head}, there is nothing to test or judge."
-    return f"{head}: " + "; ".join(parts) + "."
+    tail = f"; in the dynamic panels, {panels}" if panels else ""
+    return f"{head}: " + "; ".join(parts) + tail + "."
+
+
+def _panel_clause(findings: Findings, level: float) -> str | None:
+    """The panels in a clause: restrictions rejected, GMM estimates outside the
+    within-to-pooled bracket, estimators that imply no convergence."""
+    fits = [f for p in findings.panels for f in p.estimators]
+    if not fits:
+        return None
+    tests = [f.wald_test.rejects(level) for f in fits if f.wald_test is not None]
+    parts = [f"the restriction is rejected at the {level:.0%} level by "
+             f"{sum(t is True for t in tests)} of {_count(len(tests), 'estimator')}"]
+    brackets = [f.bracket for f in fits if f.bracket is not None]
+    if brackets:
+        parts.append(f"{sum(not b.inside for b in brackets)} of "
+                     f"{_count(len(brackets), 'GMM estimate')} of \u03b3 lie outside the "
+                     "within-to-pooled bracket")
+    troubled = sum(f.problem is not None for f in fits)
+    if troubled:
+        parts.append(f"{troubled} imply no ordinary steady state or convergence")
+    return ", ".join(parts[:-1]) + (" and " if len(parts) > 1 else "") + parts[-1]
 
 
 def consistency_lines(findings: Findings) -> tuple[str, ...]:
