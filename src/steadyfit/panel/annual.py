@@ -16,7 +16,9 @@ rates to fractions, total income to income per worker), and builds with
 
 from __future__ import annotations
 
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, replace
+from typing import TypeVar
 
 import numpy as np
 import pandas as pd
@@ -35,6 +37,7 @@ from ..errors import InputError, did_you_mean, quote
 from ..spec import Spec
 from .build import AnnualProblem, PanelShape, check_annual, cross_section, period_panel
 
+T = TypeVar("T")
 _ANNUAL_VARIABLES = ("income", "workforce", "invest", "schooling", "human_stock")
 _PANEL_LOGS = {"income": "ln_y", "invest": "ln_sk", "schooling": "ln_sh", "human_stock": "ln_h"}
 
@@ -104,13 +107,15 @@ def load_annual(spec: Spec) -> EconomyTable:
         canonical[var] = values
     if data.income_measure == "total":
         canonical["income"] = canonical["income"] / canonical["workforce"]
+    if data.non_positive == "error":
+        _refuse_non_positive(raw, data.id, data.year, variables)
     annual = check_annual(canonical[["economy", "year", *[v for v in _ANNUAL_VARIABLES
                                                           if v in canonical]]],
                           on_problem=data.non_positive)
     warnings += _shorten(annual.problems, "data.non_positive: values left out of the annual data")
     years = annual.frame["year"]
     first, last = data.span if data.span is not None else (int(years.min()), int(years.max()))
-    span = cross_section(annual, first, last)
+    span = _named(lambda: cross_section(annual, first, last), "data.span")
     absent = {d.economy: f"no complete cross-section over {first}\u2013{last}: {d.reason}"
               for d in span.dropped}
 
@@ -124,10 +129,33 @@ def load_annual(spec: Spec) -> EconomyTable:
     if not any(e.form == "panel" for e in body.equation):
         return table
     p = body.panel
-    built = period_panel(annual, p.period_years, p.first_year, p.last_year)
+    built = _named(lambda: period_panel(annual, p.period_years, p.first_year, p.last_year),
+                   "panel")
     panel = PanelTable(_panel_frame(built.frame, body.assumptions.g_plus_delta),
                        built.length, built.first_year, built.shape, built.missing)
     return replace(table, panel=panel)
+
+
+def _named(build: Callable[[], T], key: str) -> T:
+    """Run a builder, naming the spec key its refusals come from."""
+    try:
+        return build()
+    except InputError as exc:
+        raise InputError(exc.detail, key) from None
+
+
+def _refuse_non_positive(raw: pd.DataFrame, id_column: str, year_column: str,
+                         variables: Mapping[str, str]) -> None:
+    """With data.non_positive = "error": the first zero or negative value, as the file has it."""
+    for var, col in variables.items():
+        values = pd.to_numeric(raw[col], errors="coerce")
+        bad = (values <= 0).to_numpy()
+        if bad.any():
+            i = int(np.flatnonzero(bad)[0])
+            raise InputError(
+                f"economy '{quote(raw[id_column].iloc[i])}' has {values.iloc[i]:g} in "
+                f"{raw[year_column].iloc[i]}, and its log is needed; fix the data or set "
+                "data.non_positive = \"drop\"", f"column '{col}' (data.columns.{var})")
 
 
 def _constant_columns(raw: pd.DataFrame, id_column: str, skip: set[str]) -> pd.DataFrame:

@@ -222,7 +222,7 @@ def _years(years: pd.Series, economy: pd.Series) -> np.ndarray:
     if bad.any():
         i = int(np.flatnonzero(bad)[0])
         raise InputError(f"economy '{quote(economy.iloc[i])}' has the year "
-                         f"{quote(repr(years.iloc[i]))}, which is not a whole number", where)
+                         f"{quote(_plain(years.iloc[i]))}, which is not a whole number", where)
     return numbers.astype(np.int64)
 
 
@@ -366,6 +366,13 @@ def _year_range(data: AnnualData) -> tuple[int, int]:
     if years.empty:
         raise InputError("the annual data have no rows", "annual data")
     return int(years.min()), int(years.max())
+
+
+def _plain(value: object) -> str:
+    """A cell as the file shows it: numbers without numpy's type names."""
+    if isinstance(value, np.generic):
+        value = value.item()
+    return f"{value:g}" if isinstance(value, float) else str(value)
 
 
 def _whole(value: object, what: str, where: str) -> int:
