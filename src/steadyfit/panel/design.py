@@ -21,7 +21,7 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
-from functools import reduce
+from functools import cached_property, reduce
 from typing import Literal, get_args
 
 import numpy as np
@@ -66,8 +66,28 @@ class DynamicPanel:
 
     def regressors(self) -> np.ndarray:
         """(economies x periods x all regressors): own lags, then the others."""
+        return self._regressors
+
+    @cached_property
+    def _regressors(self) -> np.ndarray:
         own = [shift(self.y, j) for j in range(1, self.lags + 1)]
         return np.concatenate([np.stack(own, axis=2), self.x], axis=2) if own else self.x
+
+    @cached_property
+    def complete(self) -> np.ndarray:
+        """Where the dependent variable and every regressor are present (economies x
+        periods)."""
+        return _complete(self.y, self.regressors())
+
+    @cached_property
+    def differences(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """Differenced y and regressors, and where both periods of the difference are
+        complete.  Computed once for all the estimators fitted to this panel."""
+        R = self.regressors()
+        ok = self.complete
+        ok_d = np.zeros_like(ok)
+        ok_d[:, 1:] = ok[:, 1:] & ok[:, :-1]
+        return self.y - shift(self.y, 1), R - shift(R, 1), ok_d
 
     @classmethod
     def from_long(cls, frame: pd.DataFrame, economy: str, period: str, dependent: str,
@@ -154,16 +174,49 @@ class StackedDesign:
 
     def __repr__(self) -> str:
         z = f", {self.Z.shape[1]} instruments" if self.Z is not None else ""
-        return (f"StackedDesign({len(self.y)} rows, {len(np.unique(self.economy))} economies, "
+        return (f"StackedDesign({len(self.y)} rows, {self.n_economies} economies, "
                 f"{self.X.shape[1]} columns{z})")
 
     @property
     def nobs(self) -> int:
         return len(self.y)
 
+    @cached_property
+    def starts(self) -> np.ndarray:
+        """The first row of each economy (rows are sorted by economy)."""
+        return np.flatnonzero(np.concatenate([[True], self.economy[1:] != self.economy[:-1]]))
+
+    @cached_property
+    def row_group(self) -> np.ndarray:
+        """For each row, the position of its economy among the economies present."""
+        return np.cumsum(np.concatenate([[False], self.economy[1:] != self.economy[:-1]]))
+
+    @property
+    def economies_present(self) -> np.ndarray:
+        """Grid positions of the economies with rows."""
+        return self.economy[self.starts]
+
     @property
     def n_economies(self) -> int:
-        return len(np.unique(self.economy))
+        return len(self.starts)
+
+    @cached_property
+    def differenced_rows(self) -> np.ndarray:
+        """(economies x periods) grid of the row holding each differenced economy-period,
+        -1 where there is none."""
+        at = np.full((int(self.economy.max(initial=0)) + 1, int(self.period.max(initial=0)) + 1),
+                     -1)
+        rows = np.flatnonzero(self.block == 0)
+        at[self.economy[rows], self.period[rows]] = rows
+        return at
+
+    @cached_property
+    def n_periods(self) -> int:
+        return int(np.count_nonzero(np.bincount(self.period)))
+
+    def sums(self, values: np.ndarray) -> np.ndarray:
+        """Rows of ``values`` summed within each economy (one row per economy present)."""
+        return np.add.reduceat(values, self.starts, axis=0)
 
 
 def _complete(*arrays: np.ndarray) -> np.ndarray:
@@ -191,7 +244,7 @@ def levels_design(panel: DynamicPanel, time_effects: bool = True, constant: bool
     """The equation in levels, on every economy-period with all values present: regressors,
     then (with ``time_effects``) a dummy for each period but the first, then the constant."""
     R = panel.regressors()
-    e, t = _rows(_complete(panel.y, R))
+    e, t = _rows(panel.complete)
     X = [R[e, t]]
     names = list(panel.regressor_names)
     if time_effects:
@@ -205,21 +258,20 @@ def levels_design(panel: DynamicPanel, time_effects: bool = True, constant: bool
                          np.ones(len(e), dtype=int))
 
 
-def _differenced(panel: DynamicPanel) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Differenced y and regressors, and where both periods of the difference are complete."""
-    R = panel.regressors()
-    ok = _complete(panel.y, R)
-    ok_d = np.zeros_like(ok)
-    ok_d[:, 1:] = ok[:, 1:] & ok[:, :-1]
-    return panel.y - shift(panel.y, 1), R - shift(R, 1), ok_d
 
 
 def _time_columns(t: np.ndarray, block: np.ndarray, used: Sequence[int]) -> np.ndarray:
     """Period effects for stacked rows: in levels the dummy of each used period; in the
     differenced equation its difference (1 in that period, -1 in the next)."""
-    level = (t[:, None] == np.asarray(used)[None, :]).astype(float)
-    before = (t[:, None] - 1 == np.asarray(used)[None, :]).astype(float)
-    return np.where(block[:, None] == 0, level - before, level)
+    where = np.full(int(max(t.max(initial=0), max(used, default=0))) + 2, -1)
+    where[np.asarray(used, dtype=int)] = np.arange(len(used))
+    out = np.zeros((len(t), len(used)))
+    rows = np.arange(len(t))
+    col = where[t]
+    out[rows[col >= 0], col[col >= 0]] = 1.0
+    prev = np.where((block == 0) & (t >= 1), where[np.maximum(t - 1, 0)], -1)
+    out[rows[prev >= 0], prev[prev >= 0]] -= 1.0
+    return out
 
 
 def difference_design(panel: DynamicPanel, time_effects: bool = True) -> StackedDesign:
@@ -228,9 +280,9 @@ def difference_design(panel: DynamicPanel, time_effects: bool = True) -> Stacked
     regressor (and period effect) by itself.  Rows need that instrument."""
     if panel.lags < 1:
         raise ValueError("first-difference 2SLS needs the lagged dependent variable")
-    dy, dR, ok = _differenced(panel)
+    dy, dR, ok = panel.differences
     y2 = shift(panel.y, 2)
-    ok &= np.isfinite(y2)
+    ok = ok & np.isfinite(y2)  # a new mask: the cached one serves other estimators
     e, t = _rows(ok)
     block = np.zeros(len(e), dtype=int)
     X = [dR[e, t]]
@@ -278,19 +330,23 @@ def gmm_design(panel: DynamicPanel, system: bool = False, max_lag: int | None = 
                              f"treatment.{name}")
     if panel.lags < 1:
         raise ValueError("GMM needs the lagged dependent variable")
-    dy, dR, ok_d = _differenced(panel)
+    dy, dR, ok_d = panel.differences
     R = panel.regressors()
-    ok_l = _complete(panel.y, R) & ok_d if system else np.zeros_like(ok_d)
+    ok_l = panel.complete & ok_d if system else np.zeros_like(ok_d)
     e_d, t_d = _rows(ok_d)
     e_l, t_l = _rows(ok_l)
-    e = np.concatenate([e_d, e_l])
-    t = np.concatenate([t_d, t_l])
     block = np.concatenate([np.zeros(len(e_d), dtype=int), np.ones(len(e_l), dtype=int)])
-    order = np.lexsort((t, block, e))
-    e, t, block = e[order], t[order], block[order]
+    if system:  # rows by economy, then the differenced rows before the rows in levels
+        order = np.lexsort((np.concatenate([t_d, t_l]), block, np.concatenate([e_d, e_l])))
+        e, t = np.concatenate([e_d, e_l])[order], np.concatenate([t_d, t_l])[order]
+        block = block[order]
+    else:
+        e, t = e_d, t_d
     diff = block == 0
-    y = np.where(diff, dy[e, t], panel.y[e, t])
-    X = np.where(diff[:, None], dR[e, t], R[e, t])
+    y = panel.y[e, t]
+    y[diff] = dy[e[diff], t[diff]]
+    X = R[e, t]
+    X[diff] = dR[e[diff], t[diff]]
     names = list(panel.regressor_names)
     kinds = {n: treatment.get(n, "exogenous") for n in panel.x_names}
     Z, z_names = gmm_instruments(panel, e, t, block, kinds, max_lag, collapse)

@@ -7,11 +7,11 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import stats
+from scipy.special import fdtrc, ndtr
 
 from ..findings import TestResult
 from .design import StackedDesign
-from .gmm import GmmSolution, economy_sums
+from .gmm import GmmSolution
 
 
 def serial_correlation(d: StackedDesign, sol: GmmSolution, order: int) -> TestResult:
@@ -34,28 +34,24 @@ def serial_correlation(d: StackedDesign, sol: GmmSolution, order: int) -> TestRe
     diff = d.block == 0
     u = sol.resid
     # the residual of the same economy `order` periods earlier, among differenced rows
-    rows = np.flatnonzero(diff)
-    at = np.full((int(d.economy.max()) + 1, int(d.period.max()) + 1 + order), -1)
-    at[d.economy[rows], d.period[rows] + order] = rows  # the row `order` periods before
-    earlier = at[d.economy, d.period]
+    before = d.period - order
+    earlier = np.where(before >= 0, d.differenced_rows[d.economy, np.maximum(before, 0)], -1)
     w = np.where(diff & (earlier >= 0), u[np.maximum(earlier, 0)], 0.0)
     v = np.where(diff & (w != 0), u, 0.0)
     if not np.any(v):
         return TestResult.not_available(name, null, f"no economy has differenced residuals "
                                         f"{order} periods apart")
-    wv = economy_sums((w * v)[:, None], d.economy)[:, 0]
+    wv = d.sums(w * v)
     b = d.X.T @ w
-    A = d.X.T @ d.Z
-    bread = np.linalg.inv(A @ sol.weight @ A.T) if sol.steps == 1 else sol.uncorrected_cov
-    assert bread is not None
-    M = bread @ A @ sol.weight
-    zu = economy_sums(d.Z * u[:, None], d.economy)
+    assert sol.influence is not None and sol.by_economy is not None
+    M = sol.influence
+    zu = sol.by_economy
     var = float(wv @ wv - 2.0 * b @ M @ (zu.T @ wv) + b @ sol.cov @ b)
     if not (var > 0 and math.isfinite(var)):
         return TestResult.not_available(name, null, "the variance of the statistic is not "
                                         "positive")
     z = float(wv.sum()) / math.sqrt(var)
-    return TestResult(name, z, float(2 * stats.norm.sf(abs(z))), (), "normal", null)
+    return TestResult(name, z, float(2 * ndtr(-abs(z))), (), "normal", null)
 
 
 def instrument_count(n_instruments: int, n_economies: int) -> str | None:
@@ -70,23 +66,20 @@ def instrument_count(n_instruments: int, n_economies: int) -> str | None:
     return None
 
 
-def first_stage(d: StackedDesign, column: int) -> TestResult:
-    """Strength of the excluded instruments for regressor ``column`` of a 2SLS design: the
-    Wald statistic (clustered by economy) that their coefficients in the first-stage
-    regression are zero, as an F with (q, economies - 1) degrees of freedom."""
+def first_stage(d: StackedDesign, column: int, excluded: list[int]) -> TestResult:
+    """Strength of the excluded instruments (columns ``excluded`` of ``Z``) for regressor
+    ``column`` of a 2SLS design: the Wald statistic (clustered by economy) that their
+    coefficients in the first-stage regression are zero, as an F with (q, economies - 1)
+    degrees of freedom."""
     assert d.Z is not None
     name = "first-stage F"
     null = "the excluded instruments do not explain the instrumented regressor"
     X, Z = d.X, d.Z
-    included = [j for j in range(X.shape[1]) if j != column]
-    # excluded instruments: the columns of Z not equal to an included regressor
-    excluded = [k for k in range(Z.shape[1])
-                if not any(np.array_equal(Z[:, k], X[:, j]) for j in included)]
     target = X[:, column]
     coef, *_ = np.linalg.lstsq(Z, target, rcond=None)
     e = target - Z @ coef
     zz = np.linalg.inv(Z.T @ Z)
-    g = economy_sums(Z * e[:, None], d.economy)
+    g = d.sums(Z * e[:, None])
     n_e = g.shape[0]
     V = zz @ (g.T @ g) @ zz * n_e / (n_e - 1)
     c = coef[excluded]
@@ -99,7 +92,7 @@ def first_stage(d: StackedDesign, column: int) -> TestResult:
     except np.linalg.LinAlgError:
         return TestResult.not_available(name, null, "the first-stage covariance is singular",
                                         "F")
-    return TestResult(name, f, float(stats.f.sf(f, q, n_e - 1)), (q, n_e - 1), "F", null)
+    return TestResult(name, f, float(fdtrc(q, n_e - 1, f)), (q, n_e - 1), "F", null)
 
 
 @dataclass(frozen=True)

@@ -22,7 +22,7 @@ from .design import (
     levels_design,
 )
 from .diagnostics import first_stage, instrument_count, serial_correlation
-from .gmm import band_weight, economy_sums, gmm, overidentification, two_sls_weight
+from .gmm import band_weight, gmm, overidentification, two_sls_weight
 from .methods import METHODS
 from .results import PanelFit
 
@@ -44,7 +44,7 @@ def _ols(d: StackedDesign, y: np.ndarray, X: np.ndarray) -> tuple[np.ndarray, np
     bread = np.linalg.inv(xx)
     coef = bread @ (X.T @ y)
     u = y - X @ coef
-    g = economy_sums(X * u[:, None], d.economy)
+    g = d.sums(X * u[:, None])
     return coef, bread @ (g.T @ g) @ bread, u
 
 
@@ -52,9 +52,8 @@ def _fit(method: str, d: StackedDesign, coef: np.ndarray, cov: np.ndarray, resid
          steps: int | None = None, tests: tuple[TestResult, ...] = (),
          warnings: tuple[str, ...] = ()) -> PanelFit:
     return PanelFit(method, steps, d.names, coef, cov, d.slopes, d.nobs, d.n_economies,
-                    len(np.unique(d.period)),
-                    None if d.Z is None else d.Z.shape[1], tests, warnings, resid,
-                    np.unique(d.economy))
+                    d.n_periods, None if d.Z is None else d.Z.shape[1], tests, warnings,
+                    resid, d.economies_present)
 
 
 def pooled_ols(panel: DynamicPanel, time_effects: bool = True) -> PanelFit:
@@ -80,7 +79,7 @@ def first_difference_iv(panel: DynamicPanel, time_effects: bool = True) -> Panel
     d = difference_design(panel, time_effects=time_effects)
     sol = gmm(d, two_sls_weight(d), 1)
     return _fit("first_difference_iv", d, sol.coef, sol.cov, sol.resid, None,
-                (first_stage(d, 0),))
+                (first_stage(d, 0, [0]),))  # y(t-2), the first instrument, is excluded
 
 
 def panel_gmm(panel: DynamicPanel, system: bool = False, steps: int = 2,

@@ -26,7 +26,7 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import stats
+from scipy.special import chdtrc
 
 from .design import StackedDesign
 
@@ -44,6 +44,8 @@ class GmmSolution:
     one_step_coef: np.ndarray
     one_step_cov: np.ndarray  # clustered sandwich of the one-step estimate
     uncorrected_cov: np.ndarray | None = None  # two-step: (X'Z W2 Z'X)^-1
+    by_economy: np.ndarray | None = None  # Z_i'u_i of each economy (at coef)
+    influence: np.ndarray | None = None  # (X'Z W Z'X)^-1 X'Z W: moments to coefficients
 
     def __repr__(self) -> str:
         return f"GmmSolution({self.steps}-step, {len(self.coef)} coefficients)"
@@ -51,7 +53,7 @@ class GmmSolution:
 
 def economy_sums(values: np.ndarray, economy: np.ndarray) -> np.ndarray:
     """Rows of ``values`` summed within each economy (rows sorted by economy): one row per
-    economy present."""
+    economy present.  A design's own ``StackedDesign.sums`` keeps the boundaries."""
     starts = np.flatnonzero(np.r_[True, economy[1:] != economy[:-1]])
     return np.add.reduceat(values, starts, axis=0)
 
@@ -61,8 +63,9 @@ def band_weight(d: StackedDesign) -> np.ndarray:
     periods of an economy for rows in differences, 1 on the diagonal for rows in levels."""
     assert d.Z is not None
     Z = d.Z
-    diag = np.where(d.block == 0, 2.0, 1.0)
-    zhz = (Z * diag[:, None]).T @ Z
+    diff = d.block == 0
+    zhz = Z.T @ Z
+    zhz += zhz if diff.all() else Z[diff].T @ Z[diff]  # 2 on the differenced rows' diagonal
     if d.adjacent is not None and len(d.adjacent):
         a, b = d.adjacent[:, 0], d.adjacent[:, 1]
         cross = Z[a].T @ Z[b]
@@ -76,12 +79,15 @@ def two_sls_weight(d: StackedDesign) -> np.ndarray:
 
 
 def _inverse(m: np.ndarray) -> np.ndarray:
-    """Inverse of a symmetric positive semi-definite matrix; the Moore-Penrose inverse when it
-    is singular (redundant instruments), as is usual for GMM weights."""
+    """Inverse of a symmetric positive semi-definite matrix through its Cholesky factor; the
+    Moore-Penrose inverse when it is singular or nearly so (redundant instruments), as is
+    usual for GMM weights."""
     try:
-        inv = np.linalg.inv(m)
-        if np.all(np.isfinite(inv)) and np.allclose(inv @ m, np.eye(len(m)), atol=1e-6):
-            return (inv + inv.T) / 2
+        c = np.linalg.cholesky(m)
+        pivots = np.abs(np.diag(c))
+        if pivots.min() > 1e-7 * pivots.max():
+            ci = np.linalg.inv(c)
+            return ci.T @ ci
     except np.linalg.LinAlgError:
         pass
     p = np.linalg.pinv(m, hermitian=True)
@@ -103,35 +109,40 @@ def gmm(d: StackedDesign, weight: np.ndarray, steps: int = 1) -> GmmSolution:
     A, b = X.T @ Z, Z.T @ y
     b1, bread1 = _solve(A, weight, b)
     u1 = y - X @ b1
-    g1 = economy_sums(Z * u1[:, None], d.economy)
+    g1 = d.sums(Z * u1[:, None])
     S1 = g1.T @ g1
     M1 = bread1 @ A @ weight
     V1 = M1 @ S1 @ M1.T
     if steps == 1:
-        return GmmSolution(b1, V1, u1, weight, g1.sum(axis=0), 1, b1, V1)
+        return GmmSolution(b1, V1, u1, weight, g1.sum(axis=0), 1, b1, V1, by_economy=g1,
+                           influence=M1)
     W2 = _inverse(S1)
     b2, V2 = _solve(A, W2, b)
     u2 = y - X @ b2
-    D = windmeijer_derivative(d, W2, V2, g1, u2)
+    M2 = V2 @ A @ W2
+    D = windmeijer_derivative(d, W2, M2, g1, u2)
     Vc = V2 + D @ V2 + V2 @ D.T + D @ V1 @ D.T
-    return GmmSolution(b2, Vc, u2, W2, economy_sums(Z * u2[:, None], d.economy).sum(axis=0),
-                       2, b1, V1, V2)
+    g2 = d.sums(Z * u2[:, None])
+    return GmmSolution(b2, Vc, u2, W2, g2.sum(axis=0), 2, b1, V1, V2, by_economy=g2,
+                       influence=M2)
 
 
-def windmeijer_derivative(d: StackedDesign, W2: np.ndarray, V2: np.ndarray, g1: np.ndarray,
+def windmeijer_derivative(d: StackedDesign, W2: np.ndarray, M2: np.ndarray, g1: np.ndarray,
                           u2: np.ndarray) -> np.ndarray:
-    """d b2 / d b1: column j is ``V2 X'Z W2 [sum_i (h_ij g_i' + g_i h_ij')] W2 Z'u2`` with
-    ``g_i = Z_i'u1_i`` and ``h_ij = Z_i'x_ij`` (the derivative of ``S`` is minus the bracket)."""
+    """d b2 / d b1: column j is ``M2 [sum_i (h_ij g_i' + g_i h_ij')] W2 Z'u2`` with
+    ``M2 = V2 X'Z W2``,
+    ``g_i = Z_i'u1_i`` and ``h_ij = Z_i'x_ij`` (the derivative of ``S`` is minus the bracket).
+
+    With ``q = W2 Z'u2`` the bracket times ``q`` is ``sum_i h_ij (g_i'q) + g_i (h_ij'q)``:
+    the first sum is ``Z' (x_j * (g'q) of the row's economy)`` and the second
+    ``g' (economy sums of x_j * Zq)``, so no economy-by-instrument-by-regressor array is
+    needed."""
     assert d.Z is not None
     Z, X = d.Z, d.X
     q = W2 @ (Z.T @ u2)
     gq = g1 @ q
-    left = V2 @ X.T @ Z @ W2
-    D = np.empty((X.shape[1], X.shape[1]))
-    for j in range(X.shape[1]):
-        h = economy_sums(Z * X[:, j:j + 1], d.economy)
-        D[:, j] = left @ (h.T @ gq + g1.T @ (h @ q))
-    return D
+    bracket = Z.T @ (X * gq[d.row_group][:, None]) + g1.T @ d.sums(X * (Z @ q)[:, None])
+    return M2 @ bracket
 
 
 def overidentification(d: StackedDesign, sol: GmmSolution) -> tuple[str, float, float, int]:
@@ -152,5 +163,5 @@ def overidentification(d: StackedDesign, sol: GmmSolution) -> tuple[str, float, 
         u = sol.resid
         s2 = float(u @ u) / (2.0 * len(u))
         stat, name = float(g @ sol.weight @ g) / s2, "Sargan"
-    p = float(stats.chi2.sf(stat, df)) if df > 0 else math.nan
+    p = float(chdtrc(df, stat)) if df > 0 else math.nan
     return name, stat, p, df

@@ -30,25 +30,28 @@ def _columns(values: np.ndarray, e: np.ndarray, t: np.ndarray, rows: np.ndarray,
              lags: list[int], collapse: bool, name: str, periods: tuple[int, ...]
              ) -> tuple[list[np.ndarray], list[str]]:
     """GMM-style columns: ``values`` (economies x periods) dated t-l for each l in ``lags``,
-    on the rows selected by ``rows``; one column per period and lag, or per lag."""
-    n = len(e)
-    cols: list[np.ndarray] = []
-    names: list[str] = []
-    for lag in lags:
-        ok = rows & (t - lag >= 0)
-        v = np.zeros(n)
-        src = values[e[ok], t[ok] - lag]
-        v[ok] = np.where(np.isfinite(src), src, 0.0)
-        label = lag_name(name, lag)
-        if collapse:
-            cols.append(v)
-            names.append(label)
-            continue
-        for p in np.unique(t[ok]):
-            c = np.where(t == p, v, 0.0)
-            cols.append(c)
-            names.append(f"{label} [{periods[p]}]")
-    return cols, names
+    on the rows selected by ``rows``; one column per period and lag (lag by lag, periods in
+    order), or one per lag when collapsed.  Built in one scatter, not a loop over periods."""
+    lag = np.asarray(lags)
+    r = np.flatnonzero(rows)
+    dated = t[r][:, None] - lag[None, :]
+    ok = dated >= 0
+    src = values[e[r][:, None], np.maximum(dated, 0)]
+    src = np.where(ok & np.isfinite(src), src, 0.0)
+    if collapse:
+        Z = np.zeros((len(e), len(lag)))
+        Z[r] = src
+        return [Z], [lag_name(name, int(x)) for x in lag]
+    m, j = np.nonzero(ok)
+    p = t[r][m]
+    present = np.zeros((len(lag), len(periods)), dtype=bool)
+    present[j, p] = True
+    column = (np.cumsum(present.ravel()) - 1).reshape(present.shape)
+    Z = np.zeros((len(e), int(present.sum())))
+    Z[r[m], column[j, p]] = src[m, j]
+    names = [f"{lag_name(name, int(lag[a]))} [{periods[b]}]" for a, b in zip(*np.nonzero(present),
+                                                                             strict=True)]
+    return [Z], names
 
 
 def gmm_instruments(panel: DynamicPanel, e: np.ndarray, t: np.ndarray, block: np.ndarray,
@@ -58,7 +61,7 @@ def gmm_instruments(panel: DynamicPanel, e: np.ndarray, t: np.ndarray, block: np
     periods ``t``, equation ``block`` (0 differenced, 1 levels)."""
     if max_lag is not None and max_lag < 1:
         raise ValueError("max_lag must be 1 or more")
-    deepest = len(panel.periods) if max_lag is None else max_lag
+    deepest = int(t.max(initial=0)) if max_lag is None else max_lag  # no lag reaches further
     diff, level = block == 0, block == 1
     sources: list[tuple[str, str, np.ndarray]] = [("dependent", panel.dependent, panel.y)]
     exogenous: list[int] = []
@@ -68,7 +71,7 @@ def gmm_instruments(panel: DynamicPanel, e: np.ndarray, t: np.ndarray, block: np
             exogenous.append(j)
         else:
             sources.append((kind, name, panel.x[:, :, j]))
-    cols: list[np.ndarray] = []
+    cols: list[np.ndarray] = []  # blocks of columns
     names: list[str] = []
     for kind, name, values in sources:
         first = _FIRST_LAG[kind]
@@ -87,8 +90,10 @@ def gmm_instruments(panel: DynamicPanel, e: np.ndarray, t: np.ndarray, block: np
         src = dx[e, t]
         for rows, where in ((diff, ""), (level, " [levels]")):
             if rows.any():
-                cols.append(np.where(rows & np.isfinite(src), src, 0.0))
+                cols.append(np.where(rows & np.isfinite(src), src, 0.0)[:, None])
                 names.append(f"D.{panel.x_names[j]}{where}")
-    Z = np.column_stack(cols) if cols else np.empty((len(e), 0))
-    keep = np.any(Z != 0, axis=0)
+    Z = np.hstack(cols) if cols else np.empty((len(e), 0))
+    keep = Z.any(axis=0)
+    if keep.all():
+        return Z, names
     return Z[:, keep], [n for n, k in zip(names, keep, strict=True) if k]
