@@ -35,6 +35,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from . import shipped_file
+
 TRUE_ALPHA = 0.30
 TRUE_BETA = 0.25
 G_PLUS_DELTA = 0.05
@@ -92,13 +94,14 @@ def generate_annual(seed: int = SEED, n: int = N_ECONOMIES, first: int = FIRST_Y
     T = len(years)
     names = _names(rng, n)
     region = rng.choice(len(_REGIONS), size=n)
-    # economy means of the rates, and their persistent year-to-year movements
+    # economy means of the rates, and their persistent year-to-year movements (kept within
+    # 3-60% for investment and 0.4-25% for enrolment; the model sees the kept values)
     mean_sk = rng.normal(np.log(0.17), 0.40, size=n)
     mean_sh = rng.normal(np.log(0.05), 0.55, size=n)
-    ln_sk = (mean_sk[:, None] + _persistent(rng, n, T, 0.85, 0.22)).clip(np.log(0.03),
-                                                                         np.log(0.50))
-    ln_sh = (mean_sh[:, None] + _persistent(rng, n, T, 0.85, 0.15)).clip(np.log(0.004),
-                                                                         np.log(0.16))
+    ln_sk = (mean_sk[:, None] + _persistent(rng, n, T, 0.80, 0.28)).clip(np.log(0.03),
+                                                                         np.log(0.60))
+    ln_sh = (mean_sh[:, None] + _persistent(rng, n, T, 0.80, 0.18)).clip(np.log(0.004),
+                                                                         np.log(0.25))
     # the workforce: an economy's own growth rate, with yearly noise
     trend_n = rng.uniform(0.002, 0.032, size=n)
     n_growth = trend_n[:, None] + rng.normal(0.0, 0.003, size=(n, T))  # from t to t + 1
@@ -106,16 +109,19 @@ def generate_annual(seed: int = SEED, n: int = N_ECONOMIES, first: int = FIRST_Y
     ln_workers = np.log(workforce0)[:, None] + np.concatenate(
         [np.zeros((n, 1)), np.cumsum(n_growth[:, :-1], axis=1)], axis=1)
     # technology (the economy effect) is higher where saving is higher
-    ln_a = (8.6 + 0.5 * (mean_sk - mean_sk.mean()) + 0.3 * (mean_sh - mean_sh.mean())
+    ln_a = (8.9 + 0.5 * (mean_sk - mean_sk.mean()) + 0.3 * (mean_sh - mean_sh.mean())
             + rng.normal(0.0, 0.25, size=n))
     ngd = n_growth + G_PLUS_DELTA
     # the steady state without the trend g t, year by year
     x_star = (ln_a[:, None] + a / (1 - a - b) * ln_sk + b / (1 - a - b) * ln_sh
               - (a + b) / (1 - a - b) * np.log(ngd))
+    # log income without the trend closes the share 1 - exp(-lambda) of its gap to the
+    # steady state each year, plus a shock; economies start off their steady states, by
+    # amounts unrelated to their technology (so changes in income carry no economy effect)
     keep = np.exp(-ngd * (1 - a - b))  # the share of the gap left after a year
     x = np.empty((n, T))
     x[:, 0] = x_star[:, 0] + rng.normal(-0.15, 0.30, size=n)
-    shocks = rng.normal(0.0, 0.025, size=(n, T))
+    shocks = rng.normal(0.0, 0.012, size=(n, T))
     for t in range(1, T):
         x[:, t] = keep[:, t - 1] * x[:, t - 1] + (1 - keep[:, t - 1]) * x_star[:, t - 1] \
             + shocks[:, t]
@@ -124,7 +130,7 @@ def generate_annual(seed: int = SEED, n: int = N_ECONOMIES, first: int = FIRST_Y
         "economy": np.repeat(names, T),
         "year": np.tile(years, n),
         "region": np.repeat([_REGIONS[i] for i in region], T),
-        "output_per_worker": np.exp(ln_y).ravel().round(0),
+        "output_per_worker": np.exp(ln_y).ravel().round(0).astype(np.int64),
         "workers": np.exp(ln_workers).ravel().round(-2).astype(np.int64),
         "investment_share": (100 * np.exp(ln_sk)).ravel().round(2),
         "enrolment": (100 * np.exp(ln_sh)).ravel().round(2),
@@ -147,13 +153,17 @@ GAP_ECONOMY, LATE_ECONOMY = _planted()
 
 
 def shipped_annual() -> Path:
-    from . import shipped_file
-
+    """The shipped annual table (``annual_economies.csv`` beside this module)."""
     return shipped_file(DATA_FILE)
 
 
 def regenerate_annual() -> Path:
-    """Rewrite the shipped annual table from :func:`generate_annual`."""
+    """Rewrite the shipped annual table from :func:`generate_annual`
+    (``python -m steadyfit.demo.annual``)."""
     path = shipped_annual()
     generate_annual().to_csv(path, index=False)
     return path
+
+
+if __name__ == "__main__":
+    print(regenerate_annual())
