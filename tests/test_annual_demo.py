@@ -133,4 +133,5 @@ def test_check_prints_the_panel_shape():
     assert "8 periods ending 1965 to 2000" in out
     assert "60 economies, 476 complete observations (unbalanced)" in out
     assert f"'{GAP_ECONOMY}' (1985)" in out
-    assert f"{LATE_ECONOMY} 1965:" in out and f"{GAP_ECONOMY} 1985:" in out
+    assert f"{LATE_ECONOMY}, period ending 1965:" in out
+    assert f"{GAP_ECONOMY}, period ending 1985:" in out

@@ -153,14 +153,16 @@ def _check(spec_path: Path) -> int:
         print(f"\nperiod panel ({panel.length}-year periods from {panel.first_year}):")
         for line in panel.shape.lines():
             say(line, "  ", "    ")
+        if panel.missing:
+            say("economy-periods that could not be built:", "  ", "    ")
+        for miss in panel.missing[:10]:
+            say(f"{miss.economy}, period ending {miss.year}: {miss.reason}", "    - ", "      ")
+        if len(panel.missing) > 10:
+            say(f"and {len(panel.missing) - 10} more", "    - ", "      ")
         methods = ", ".join(p.spec.body.panel.estimators)
+        print("\nwould estimate on the panel:")
         for cell in p.panels:
             say(f"{cell.equation} [{cell.form.key}] on {cell.sample}: {methods}", "  ", "    ")
-        for miss in panel.missing[:10]:
-            say(f"{miss.economy} {miss.year}: {miss.reason}", "      - ", "        ")
-        if len(panel.missing) > 10:
-            say(f"and {len(panel.missing) - 10} more economy-periods that could not be built",
-                "      - ", "        ")
     if p.spec.body.target:
         print(f"\n{len(p.spec.body.target)} replication targets will be checked")
     return 0

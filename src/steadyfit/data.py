@@ -328,6 +328,8 @@ def check_values(values: pd.Series, var: str, col: str, codes_declared: bool) ->
     present = values.dropna()
     if present.empty:
         raise InputError("every value of the column is missing", where)
+    if codes_declared:  # the user said which values are codes: every other value is data
+        return
     suspects = present[present.isin(_CODES)]
     if var in ("income", "income_start", "human_stock"):
         # levels: a positive all-nines value is only a code when far from the others
@@ -335,8 +337,8 @@ def check_values(values: pd.Series, var: str, col: str, codes_declared: bool) ->
         suspects = suspects[(suspects < 0) | (suspects > 10 * median) | (suspects < median / 10)]
     if len(suspects):
         economy, value = suspects.index[0], suspects.iloc[0]
-        hint = ("; it is not among data.missing_codes" if codes_declared else
-                f"; fix the value or declare data.missing_codes = [{value:g}]")
+        hint = (f"; fix the value, or declare data.missing_codes (with [{value:g}] it means "
+                "missing; with other codes every value not listed is taken as data)")
         raise InputError(f"economy '{quote(economy)}' has the value {value:g}, which looks like a "
                          f"missing-value code{hint}", where)
 

@@ -16,7 +16,7 @@ rates to fractions, total income to income per worker), and builds with
 
 from __future__ import annotations
 
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Collection, Mapping
 from dataclasses import dataclass, replace
 from typing import TypeVar
 
@@ -35,7 +35,14 @@ from ..data import (
 )
 from ..errors import InputError, did_you_mean, quote
 from ..spec import Spec
-from .build import AnnualProblem, PanelShape, check_annual, cross_section, period_panel
+from .build import (
+    AnnualProblem,
+    PanelShape,
+    PeriodPanel,
+    check_annual,
+    cross_section,
+    period_panel,
+)
 
 T = TypeVar("T")
 _ANNUAL_VARIABLES = ("income", "workforce", "invest", "schooling", "human_stock")
@@ -57,6 +64,10 @@ class PanelTable:
     first_year: int
     shape: PanelShape
     missing: tuple[AnnualProblem, ...]
+    grid: PeriodPanel  # the panel in natural units, as built
+
+    def shape_of(self, economies: Collection[str]) -> PanelShape:
+        return self.grid.shape_of(economies)
 
     def __repr__(self) -> str:
         return (f"PanelTable({self.shape.periods} periods of {self.length} years from "
@@ -91,11 +102,13 @@ def load_annual(spec: Spec) -> EconomyTable:
     warnings: list[str] = []
     canonical = pd.DataFrame({"economy": raw[data.id].astype(str).where(raw[data.id].notna()),
                               "year": raw[data.year]})
+    # value messages name the economy and the year of a cell
+    cells = pd.Index(raw[data.id].astype(str) + " in " + raw[data.year].astype(str))
     for var, col in variables.items():
         if col not in raw.columns:
             raise InputError(f"the data have no column '{quote(col)}'"
                              f"{did_you_mean(col, columns)}", f"data.columns.{var}")
-        values = numeric_column(raw[col], var, col)
+        values = numeric_column(raw[col].set_axis(cells), var, col)
         if codes:
             values = values.where(~values.isin(codes))
         check_values(values, var, col, bool(codes))
@@ -104,7 +117,7 @@ def load_annual(spec: Spec) -> EconomyTable:
             warnings += check_unit(values, var, col, unit)
             if unit == "percent":
                 values = values / 100.0
-        canonical[var] = values
+        canonical[var] = values.to_numpy()
     if data.income_measure == "total":
         canonical["income"] = canonical["income"] / canonical["workforce"]
     if data.non_positive == "error":
@@ -132,7 +145,7 @@ def load_annual(spec: Spec) -> EconomyTable:
     built = _named(lambda: period_panel(annual, p.period_years, p.first_year, p.last_year),
                    "panel")
     panel = PanelTable(_panel_frame(built.frame, body.assumptions.g_plus_delta),
-                       built.length, built.first_year, built.shape, built.missing)
+                       built.length, built.first_year, built.shape, built.missing, built)
     return replace(table, panel=panel)
 
 

@@ -10,6 +10,7 @@ years.
 
 from __future__ import annotations
 
+from collections.abc import Collection
 from dataclasses import dataclass
 from numbers import Integral
 from typing import Literal, get_args
@@ -133,6 +134,14 @@ class PeriodPanel:
     first_year: int
     shape: PanelShape
     missing: tuple[AnnualProblem, ...]
+
+    def shape_of(self, economies: Collection[str]) -> PanelShape:
+        """The shape of the panel restricted to ``economies`` (a sample)."""
+        columns = [c for c in self.frame.columns
+                   if c not in ("economy", "period", "end_year", "start_year")]
+        sub = self.frame[self.frame["economy"].isin(list(economies))]
+        periods = int(self.frame["period"].max()) + 1 if len(self.frame) else 0
+        return _shape(sub, columns, periods)
 
     def __repr__(self) -> str:
         s = self.shape

@@ -115,7 +115,11 @@ def estimate_panel_cell(table: EconomyTable, spec: Spec, equation: str, form: Mo
         lo, hi = fits["within"][0].coef[0], fits["pooled_ols"][0].coef[0]
         found = [f if not f.method.endswith("gmm") else
                  _with_bracket(f, bracket(f.unrestricted.coef[0], lo, hi)) for f in found]
-    notes = []
+    gaps = [m for m in table.panel.missing if m.economy in set(economies)]
+    notes = [f"{m.economy}, period ending {m.year}: not built ({m.reason})" for m in gaps[:5]]
+    if len(gaps) > 5:
+        notes.append(f"{len(gaps) - 5} more economy-periods of this sample could not be built "
+                     "(steadyfit check lists them)")
     for f in found:
         for fit in (f.unrestricted, f.restricted):
             notes += [f"{f.title}: {w}" for w in fit.warnings]
@@ -123,7 +127,7 @@ def estimate_panel_cell(table: EconomyTable, spec: Spec, equation: str, form: Mo
     return PanelFindings(
         equation=equation, sample=sample, form_key=form.key, description=form.description,
         restriction_text=form.restriction_text(spec.body.labels.variables),
-        period_years=p.period_years, shape=tuple(table.panel.shape.lines()),
+        period_years=p.period_years, shape=tuple(table.panel.shape_of(economies).lines()),
         economies=tuple(used), n_in_sample=n_in_sample, estimators=tuple(found),
         notes=tuple(dict.fromkeys(notes)), data=frame[kept].reset_index(drop=True))
 

@@ -61,8 +61,10 @@ def instrument_count(n_instruments: int, n_economies: int) -> str | None:
     from memory)."""
     if n_instruments > n_economies:
         return (f"{n_instruments} instruments exceed the {n_economies} economies: the "
-                "over-identification test is weak and two-step standard errors unreliable; "
-                "limit the lag depth or collapse the instruments")
+                "two-step weight matrix is singular, so two-step estimates can move with small "
+                "changes in the data, their standard errors are unreliable and the "
+                "over-identification test is weak; limit the lag depth (panel.max_lag) or "
+                "collapse the instruments (panel.collapse)")
     return None
 
 

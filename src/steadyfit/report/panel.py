@@ -90,6 +90,7 @@ def panel_table(findings: Findings, p: PanelFindings) -> Table:
         Cell("integer", f.unrestricted.n_instruments) if f.unrestricted.n_instruments
         is not None else Cell("text", PLACEHOLDER) for f in est)))
     notes = [f"{p.heading}: {form.description}; periods of {p.period_years} years. "
+             + " ".join(line[:1].upper() + line[1:] + "." for line in p.shape) + " "
              f"{GAMMA} is the coefficient on log income of the period before; "
              f"{quantity_label('lam')} = {MINUS}ln({GAMMA})/{p.period_years} and the shares "
              "come from the restricted fit through the same maps as the growth form. Standard "
