@@ -68,19 +68,19 @@ def instrument_count(n_instruments: int, n_economies: int) -> str | None:
     return None
 
 
-def first_stage(d: StackedDesign, column: int, excluded: list[int]) -> TestResult:
+def first_stage(d: StackedDesign, column: int, excluded: list[int], zz: np.ndarray
+                ) -> TestResult:
     """Strength of the excluded instruments (columns ``excluded`` of ``Z``) for regressor
     ``column`` of a 2SLS design: the Wald statistic (clustered by economy) that their
     coefficients in the first-stage regression are zero, as an F with (q, economies - 1)
-    degrees of freedom."""
+    degrees of freedom.  ``zz`` is ``(Z'Z)^-1``, the 2SLS weight."""
     assert d.Z is not None
     name = "first-stage F"
     null = "the excluded instruments do not explain the instrumented regressor"
     X, Z = d.X, d.Z
     target = X[:, column]
-    coef, *_ = np.linalg.lstsq(Z, target, rcond=None)
+    coef = zz @ (Z.T @ target)
     e = target - Z @ coef
-    zz = np.linalg.inv(Z.T @ Z)
     g = d.sums(Z * e[:, None])
     n_e = g.shape[0]
     V = zz @ (g.T @ g) @ zz * n_e / (n_e - 1)

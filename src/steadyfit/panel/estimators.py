@@ -27,14 +27,12 @@ from .methods import METHODS
 from .results import PanelFit
 
 
-def demean(values: np.ndarray, groups: np.ndarray) -> np.ndarray:
-    """Columns of ``values`` minus their mean within each group (integer codes)."""
-    counts = np.bincount(groups)
-    out = np.empty_like(values, dtype=float)
-    for j in range(values.shape[1]):
-        means = np.bincount(groups, weights=values[:, j]) / np.maximum(counts, 1)
-        out[:, j] = values[:, j] - means[groups]
-    return out
+def demean(d: StackedDesign, values: np.ndarray) -> np.ndarray:
+    """Columns of ``values`` (one row per row of ``d``) minus their mean within each economy:
+    one pass of sums over the economy-sorted rows."""
+    counts = np.diff(np.append(d.starts, d.nobs))
+    means = d.sums(values) / counts[:, None]
+    return values - means[d.row_group]
 
 
 def _ols(d: StackedDesign, y: np.ndarray, X: np.ndarray) -> tuple[np.ndarray, np.ndarray,
@@ -67,9 +65,8 @@ def within(panel: DynamicPanel, time_effects: bool = True) -> PanelFit:
     """The levels equation with an effect per economy (removed by subtracting each economy's
     means), and optionally period effects (dummies, demeaned with the rest)."""
     d = levels_design(panel, time_effects=time_effects, constant=False)
-    X = demean(d.X, d.economy)
-    y = demean(d.y[:, None], d.economy)[:, 0]
-    coef, cov, u = _ols(d, y, X)
+    both = demean(d, np.column_stack([d.y, d.X]))
+    coef, cov, u = _ols(d, both[:, 0], both[:, 1:])
     return _fit("within", d, coef, cov, u)
 
 
@@ -77,9 +74,10 @@ def first_difference_iv(panel: DynamicPanel, time_effects: bool = True) -> Panel
     """2SLS of the differenced equation, the differenced lag instrumented by the level two
     periods back (Anderson and Hsiao 1981), with the first-stage strength."""
     d = difference_design(panel, time_effects=time_effects)
-    sol = gmm(d, two_sls_weight(d), 1)
+    weight = two_sls_weight(d)
+    sol = gmm(d, weight, 1)
     return _fit("first_difference_iv", d, sol.coef, sol.cov, sol.resid, None,
-                (first_stage(d, 0, [0]),))  # y(t-2), the first instrument, is excluded
+                (first_stage(d, 0, [0], weight),))  # y(t-2), the first instrument, is excluded
 
 
 def panel_gmm(panel: DynamicPanel, system: bool = False, steps: int = 2,

@@ -82,14 +82,15 @@ def _inverse(m: np.ndarray) -> np.ndarray:
     """Inverse of a symmetric positive semi-definite matrix through its Cholesky factor; the
     Moore-Penrose inverse when it is singular or nearly so (redundant instruments), as is
     usual for GMM weights."""
-    try:
-        c = np.linalg.cholesky(m)
+    from scipy.linalg import lapack
+
+    c, info = lapack.dpotrf(m, lower=True)
+    if info == 0:
         pivots = np.abs(np.diag(c))
         if pivots.min() > 1e-7 * pivots.max():
-            ci = np.linalg.inv(c)
-            return ci.T @ ci
-    except np.linalg.LinAlgError:
-        pass
+            inv, info = lapack.dpotri(c, lower=True)  # fills the lower triangle
+            if info == 0:
+                return np.tril(inv) + np.tril(inv, -1).T
     p = np.linalg.pinv(m, hermitian=True)
     return (p + p.T) / 2
 
