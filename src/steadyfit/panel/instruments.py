@@ -18,7 +18,7 @@ from collections.abc import Mapping
 
 import numpy as np
 
-from .design import DynamicPanel, lag_name, shift
+from .design import DynamicPanel, lag_name
 
 # the earliest lag of a variable's level usable in the differenced equation, and the lag of its
 # difference usable in the levels equation
@@ -63,35 +63,39 @@ def gmm_instruments(panel: DynamicPanel, e: np.ndarray, t: np.ndarray, block: np
         raise ValueError("max_lag must be 1 or more")
     deepest = int(t.max(initial=0)) if max_lag is None else max_lag  # no lag reaches further
     diff, level = block == 0, block == 1
-    sources: list[tuple[str, str, np.ndarray]] = [("dependent", panel.dependent, panel.y)]
+    dy, dR, _ = panel.differences  # every difference, computed once per panel
+    # (kind, name, levels, differences) of each variable instrumented GMM-style
+    sources: list[tuple[str, str, np.ndarray, np.ndarray]] = [
+        ("dependent", panel.dependent, panel.y, dy)]
     exogenous: list[int] = []
     for j, name in enumerate(panel.x_names):
         kind = kinds.get(name, "exogenous")
         if kind == "exogenous":
             exogenous.append(j)
         else:
-            sources.append((kind, name, panel.x[:, :, j]))
+            sources.append((kind, name, panel.x[:, :, j], dR[:, :, panel.lags + j]))
+    any_level = bool(level.any())
     cols: list[np.ndarray] = []  # blocks of columns
     names: list[str] = []
-    for kind, name, values in sources:
+    for kind, name, values, changes in sources:
         first = _FIRST_LAG[kind]
         c, n = _columns(values, e, t, diff, list(range(first, max(first, deepest) + 1)),
                         collapse, name, panel.periods)
         cols += c
         names += n
-        if level.any():
-            d = values - shift(values, 1)
-            c, n = _columns(d, e, t, level, [_LEVEL_LAG[kind]], collapse, f"D.{name}",
+        if any_level:
+            c, n = _columns(changes, e, t, level, [_LEVEL_LAG[kind]], collapse, f"D.{name}",
                             panel.periods)
             cols += c
             names += n
-    for j in exogenous:  # exogenous regressors: their difference, in each equation
-        dx = panel.x[:, :, j] - shift(panel.x[:, :, j], 1)
-        src = dx[e, t]
-        for rows, where in ((diff, ""), (level, " [levels]")):
-            if rows.any():
-                cols.append(np.where(rows & np.isfinite(src), src, 0.0)[:, None])
-                names.append(f"D.{panel.x_names[j]}{where}")
+    if exogenous:  # exogenous regressors: their difference, in each equation
+        src = dR[e, t][:, [panel.lags + j for j in exogenous]]
+        src = np.where(np.isfinite(src), src, 0.0)
+        cols.append(src * diff[:, None])
+        names += [f"D.{panel.x_names[j]}" for j in exogenous]
+        if any_level:
+            cols.append(src * level[:, None])
+            names += [f"D.{panel.x_names[j]} [levels]" for j in exogenous]
     Z = np.hstack(cols) if cols else np.empty((len(e), 0))
     keep = Z.any(axis=0)
     if keep.all():
