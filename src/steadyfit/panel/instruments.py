@@ -97,7 +97,7 @@ def gmm_instruments(panel: DynamicPanel, e: np.ndarray, t: np.ndarray, block: np
             cols.append(src * level[:, None])
             names += [f"D.{panel.x_names[j]} [levels]" for j in exogenous]
     Z = np.hstack(cols) if cols else np.empty((len(e), 0))
-    keep = Z.any(axis=0)
+    keep = np.asarray(Z.any(axis=0), dtype=bool)
     if keep.all():
         return Z, names
     return Z[:, keep], [n for n, k in zip(names, keep, strict=True) if k]
