@@ -217,3 +217,21 @@ def test_conclusion_counts_the_panels(sumhes):
     text = conclusion(steadyfit.run(sumhes / "sumhes.toml"))
     assert "in the dynamic panels, the restriction is rejected at the 5% level by" in text
     assert "of 5 estimators" in text and "of 2 GMM estimates of γ" in text
+
+
+def test_treatment_reaches_both_fits(sumhes):
+    """[panel].treatment applies to the unrestricted regressor and to the restricted one that
+    contains it: in both fits the predetermined saving rate brings its own lagged levels as
+    instruments (per period, lags 1 and 2) in place of its difference."""
+    def panel_gmm(extra: str):
+        spec = sumhes / "treated.toml"
+        spec.write_text(SPEC.replace("first_year = 1960", "first_year = 1960\nmax_lag = 2\n"
+                                     + extra), encoding="utf-8")
+        return steadyfit.run(spec).panels[0].estimator("difference_gmm")
+
+    plain = panel_gmm("")
+    treated = panel_gmm('treatment = { invest = "predetermined" }')
+    for fit in ("unrestricted", "restricted"):
+        more = getattr(treated, fit).n_instruments - getattr(plain, fit).n_instruments
+        assert more >= 3, (fit, more)
+        assert not np.allclose(getattr(treated, fit).coef, getattr(plain, fit).coef)

@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping
+from dataclasses import replace
 from typing import cast
 
 import numpy as np
@@ -54,20 +55,20 @@ def sample_economies(table: EconomyTable, spec: Spec, sample: str) -> tuple[list
     return [str(e) for e in frame.index[keep]], int(keep.sum())
 
 
-def _regressor_columns(frame: pd.DataFrame, form: ModelForm, restricted: bool
-                       ) -> tuple[pd.DataFrame, list[str], dict[str, str]]:
-    """The frame with the form's regressors (other than lagged income) as columns, their
-    names, and each one's treatment key (the canonical columns it combines)."""
-    regs = form.restricted if restricted else form.unrestricted
+def _regressor_columns(frame: pd.DataFrame, form: ModelForm
+                       ) -> tuple[pd.DataFrame, dict[bool, list[str]], dict[str, str]]:
+    """The frame with every regressor of the form (unrestricted and restricted, lagged income
+    aside) as a column; each fit's regressor names (by ``restricted``); and each regressor's
+    canonical columns (for its treatment)."""
     out = frame.copy()
-    names = []
-    parts = {}
-    for r in regs:
-        if r.name == "ln_y0":
-            continue
-        out[r.name] = sum(w * frame[col] for col, w in r.weights.items())
-        names.append(r.name)
-        parts[r.name] = ",".join(r.weights)
+    names: dict[bool, list[str]] = {}
+    parts: dict[str, str] = {}
+    for restricted, regs in ((False, form.unrestricted), (True, form.restricted)):
+        names[restricted] = [r.name for r in regs if r.name != "ln_y0"]
+        for r in regs:
+            if r.name != "ln_y0":
+                out[r.name] = sum(w * frame[col] for col, w in r.weights.items())
+                parts[r.name] = ",".join(r.weights)
     return out, names, parts
 
 
@@ -90,26 +91,24 @@ def estimate_panel_cell(table: EconomyTable, spec: Spec, equation: str, form: Mo
     economies, n_in_sample = sample_economies(table, spec, sample)
     frame = table.panel.frame
     frame = frame[frame["economy"].isin(economies)]
-    panels = {}
-    treat = {}
-    kept = ["economy", "year", "ln_y"]
-    for restricted in (False, True):
-        data, names, parts = _regressor_columns(frame, form, restricted)
-        panels[restricted] = DynamicPanel.from_long(data, "economy", "year", "ln_y", names, 1)
-        treat[restricted] = _treatment(parts, p.treatment)
-        frame = data
-        kept += [n for n in names if n not in kept]
+    if frame.empty:
+        raise EstimationError("no economy of the sample has a period of the panel", where)
+    data, names, parts = _regressor_columns(frame, form)
+    panels = {r: DynamicPanel.from_long(data, "economy", "year", "ln_y", names[r], 1)
+              for r in (False, True)}
+    treat = _treatment(parts, p.treatment)
     fits: dict[str, tuple[PanelFit, PanelFit]] = {}
     for method in p.estimators:
         try:
-            pair = tuple(estimate(panels[r], method, steps=p.gmm_steps, max_lag=p.max_lag,
-                                  collapse=p.collapse, treatment=treat[r],
-                                  within_time_effects=p.within_period_effects)
-                         for r in (False, True))
+            unres, res = (estimate(panels[r], method, steps=p.gmm_steps, max_lag=p.max_lag,
+                                   collapse=p.collapse,
+                                   treatment={k: v for k, v in treat.items() if k in names[r]},
+                                   within_time_effects=p.within_period_effects)
+                          for r in (False, True))
         except np.linalg.LinAlgError as exc:
             raise EstimationError(f"the {method} estimate cannot be computed ({exc}): too few "
                                   "economies or periods, or collinear regressors", where) from None
-        fits[method] = pair  # type: ignore[assignment]
+        fits[method] = (unres, res)
     found = [_judge(form, method, u, r, settings) for method, (u, r) in fits.items()]
     if "within" in fits and "pooled_ols" in fits:
         lo, hi = fits["within"][0].coef[0], fits["pooled_ols"][0].coef[0]
@@ -129,7 +128,9 @@ def estimate_panel_cell(table: EconomyTable, spec: Spec, equation: str, form: Mo
         restriction_text=form.restriction_text(spec.body.labels.variables),
         period_years=p.period_years, shape=tuple(table.panel.shape_of(economies).lines()),
         economies=tuple(used), n_in_sample=n_in_sample, estimators=tuple(found),
-        notes=tuple(dict.fromkeys(notes)), data=frame[kept].reset_index(drop=True))
+        notes=tuple(dict.fromkeys(notes)),
+        data=data[["economy", "year", "ln_y", *dict.fromkeys(names[False] + names[True])]]
+        .reset_index(drop=True))
 
 
 def _economies_used(f: EstimatorFindings) -> tuple[int, ...]:
@@ -138,8 +139,6 @@ def _economies_used(f: EstimatorFindings) -> tuple[int, ...]:
 
 
 def _with_bracket(f: EstimatorFindings, check: BracketCheck) -> EstimatorFindings:
-    from dataclasses import replace
-
     return replace(f, bracket=check)
 
 
