@@ -21,10 +21,10 @@ from typing import TYPE_CHECKING, Literal
 import numpy as np
 import pandas as pd
 
-from .data import LOG_COLUMNS, EconomyTable
+from .data import LOG_COLUMNS, sample_members
 from .design import Design, _matrix
 from .equations import Regressor, term_label
-from .filters import evaluate_filter, parse_filter, referenced_columns
+from .filters import parse_filter, referenced_columns
 from .labels import MINUS, SYMBOLS
 from .spec import RATE_VARIABLES, ColumnMap, Spec
 
@@ -142,18 +142,6 @@ def _formula(reg: Regressor) -> str:
     return out.strip()
 
 
-def _members(table: EconomyTable, text: str, where: str) -> np.ndarray:
-    """Economies in a sample: every column the filter reads present, and the filter true."""
-    node = parse_filter(text, where)
-    frame = table.frame
-    keep = np.ones(len(frame), dtype=bool)
-    for col in referenced_columns(node):
-        if col in frame.columns:
-            keep &= frame[col].notna().to_numpy()
-    keep[keep] = evaluate_filter(node, frame.loc[keep], where)
-    return keep
-
-
 def _variable_info(var: str, col: str, spec: Spec, symbols: Mapping[str, str]) -> ColumnInfo:
     unit = getattr(spec.body.data.units, var) if var in RATE_VARIABLES else None
     codes = spec.body.data.missing_codes
@@ -214,7 +202,7 @@ def build_analysis(plan: Plan) -> AnalysisData:
     # samples, in the order the cells use them
     samples = list(dict.fromkeys(c.selection.sample for c in cells))
     filters = {s: spec.body.samples[s] for s in samples}
-    member = {s: _members(table, text, f"samples.{s}") for s, text in filters.items()}
+    member = {s: sample_members(table, text, f"samples.{s}") for s, text in filters.items()}
     rows = np.logical_or.reduce(list(member.values())) if member else np.zeros(0, bool)
 
     add(ColumnInfo(table.id_column, "id", "economy identifier", "text", table.id_column,

@@ -414,6 +414,19 @@ def _non_positive(var: str, value: float, level: float, g_plus_delta: float) -> 
             f"g + delta = {g_plus_delta:g})")
 
 
+def sample_members(table: EconomyTable, text: str, where: str) -> np.ndarray:
+    """Economies in a sample (a mask over the table's rows): every column the filter reads
+    present, and the filter true."""
+    node = parse_filter(text, where)
+    frame = table.frame
+    keep = np.ones(len(frame), dtype=bool)
+    for col in referenced_columns(node):
+        if col in frame.columns:
+            keep &= frame[col].notna().to_numpy()
+    keep[keep] = evaluate_filter(node, frame.loc[keep], where)
+    return keep
+
+
 def select(table: EconomyTable, spec: Spec, sample: str, form: ModelForm) -> Selection:
     """Cut the estimation sample ``sample`` for ``form``, listing every economy dropped."""
     text = spec.body.samples[sample]

@@ -20,11 +20,10 @@ from typing import cast
 import numpy as np
 import pandas as pd
 
-from ..data import EconomyTable
+from ..data import EconomyTable, sample_members
 from ..equations import ModelForm
 from ..errors import EstimationError
 from ..estimators import covariance_problem
-from ..filters import evaluate_filter, parse_filter, referenced_columns
 from ..findings import Settings
 from ..inference import implied_from_slopes, normal_estimate, normal_quantile, wald_test
 from ..spec import Spec
@@ -41,18 +40,10 @@ LAG = "ln_y(t-1)"
 
 
 def sample_economies(table: EconomyTable, spec: Spec, sample: str) -> tuple[list[str], int]:
-    """Economies of ``sample`` (the filter read on the economy-level columns) and how many
-    were in it before any had to be left out for a missing filter column."""
-    text = spec.body.samples[sample]
-    where = f"samples.{sample}"
-    node = parse_filter(text, where)
-    frame = table.frame
-    keep = np.ones(len(frame), dtype=bool)
-    for col in referenced_columns(node):
-        if col in frame.columns:
-            keep &= frame[col].notna().to_numpy()
-    keep[keep] = evaluate_filter(node, frame.loc[keep], where)
-    return [str(e) for e in frame.index[keep]], int(keep.sum())
+    """Economies of ``sample`` (the filter read on the economy-level columns) and their
+    number."""
+    keep = sample_members(table, spec.body.samples[sample], f"samples.{sample}")
+    return [str(e) for e in table.frame.index[keep]], int(keep.sum())
 
 
 def _regressor_columns(frame: pd.DataFrame, form: ModelForm
