@@ -262,16 +262,13 @@ def levels_design(panel: DynamicPanel, time_effects: bool = True, constant: bool
 
 def _time_columns(t: np.ndarray, block: np.ndarray, used: Sequence[int]) -> np.ndarray:
     """Period effects for stacked rows: in levels the dummy of each used period; in the
-    differenced equation its difference (1 in that period, -1 in the next)."""
-    where = np.full(int(max(t.max(initial=0), max(used, default=0))) + 2, -1)
-    where[np.asarray(used, dtype=int)] = np.arange(len(used))
-    out = np.zeros((len(t), len(used)))
-    rows = np.arange(len(t))
-    col = where[t]
-    out[rows[col >= 0], col[col >= 0]] = 1.0
-    prev = np.where((block == 0) & (t >= 1), where[np.maximum(t - 1, 0)], -1)
-    out[rows[prev >= 0], prev[prev >= 0]] -= 1.0
-    return out
+    differenced equation its difference (1 in that period, -1 in the next).  Read off a small
+    table by (equation, period)."""
+    periods = int(max(t.max(initial=0), max(used, default=0))) + 1
+    level = (np.arange(periods)[:, None] == np.asarray(used, dtype=int)[None, :]).astype(float)
+    change = level.copy()
+    change[1:] -= level[:-1]
+    return np.stack([change, level])[block, t]
 
 
 def difference_design(panel: DynamicPanel, time_effects: bool = True) -> StackedDesign:

@@ -31,26 +31,25 @@ def _columns(values: np.ndarray, e: np.ndarray, t: np.ndarray, rows: np.ndarray,
              ) -> tuple[list[np.ndarray], list[str]]:
     """GMM-style columns: ``values`` (economies x periods) dated t-l for each l in ``lags``,
     on the rows selected by ``rows``; one column per period and lag (lag by lag, periods in
-    order), or one per lag when collapsed.  Built in one scatter, not a loop over periods."""
-    lag = np.asarray(lags)
-    r = np.flatnonzero(rows)
-    dated = t[r][:, None] - lag[None, :]
-    ok = dated >= 0
-    src = values[e[r][:, None], np.maximum(dated, 0)]
-    src = np.where(ok & np.isfinite(src), src, 0.0)
+    order), or one per lag when collapsed.
+
+    The columns are first laid out on the grid (economies x periods x columns: in period p,
+    column (l, p) holds the value dated p - l) and then read off at each row's economy and
+    period, so a missing lag is a zero and rows of other periods get zeros."""
+    reach = int(t[rows].max(initial=-1)) + 1  # periods the rows reach
+    pairs = [(lag, p) for lag in lags for p in range(lag, reach)]  # lag by lag, then period
     if collapse:
-        Z = np.zeros((len(e), len(lag)))
-        Z[r] = src
-        return [Z], [lag_name(name, int(x)) for x in lag]
-    m, j = np.nonzero(ok)
-    p = t[r][m]
-    present = np.zeros((len(lag), len(periods)), dtype=bool)
-    present[j, p] = True
-    column = (np.cumsum(present.ravel()) - 1).reshape(present.shape)
-    Z = np.zeros((len(e), int(present.sum())))
-    Z[r[m], column[j, p]] = src[m, j]
-    names = [f"{lag_name(name, int(lag[a]))} [{periods[b]}]" for a, b in zip(*np.nonzero(present),
-                                                                             strict=True)]
+        pairs = [(lag, -1) for lag in lags if lag < reach]
+    clean = np.where(np.isfinite(values), values, 0.0)
+    grid = np.zeros((values.shape[0], max(reach, 1), len(pairs)))
+    for c, (lag, p) in enumerate(pairs):
+        if p >= 0:
+            grid[:, p, c] = clean[:, p - lag]
+        else:
+            grid[:, lag:reach, c] = clean[:, :reach - lag]
+    Z = grid[e, np.minimum(t, max(reach - 1, 0))] * rows[:, None]
+    names = [lag_name(name, lag) if p < 0 else f"{lag_name(name, lag)} [{periods[p]}]"
+             for lag, p in pairs]
     return [Z], names
 
 

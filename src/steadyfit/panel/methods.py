@@ -21,9 +21,9 @@ ASSUMES: dict[str, str] = {
     "difference_gmm": ("errors not serially correlated (AR(2) should not reject) and the "
                        "instruments valid (over-identification test); weak instruments and a "
                        "downward bias when income is persistent (Blundell and Bond 1998)"),
-    "system_gmm": ("as difference GMM, and in addition that changes in income are uncorrelated "
-                   "with the economy effect (mean stationarity), which the levels equation "
-                   "needs"),
+    "system_gmm": ("what difference GMM assumes, and in addition that changes in income are "
+                   "uncorrelated with the economy effect (mean stationarity), which the levels "
+                   "equation needs"),
 }
 
 TITLES: dict[str, str] = {
