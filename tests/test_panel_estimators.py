@@ -19,7 +19,7 @@ import pytest
 
 from steadyfit.panel.design import DynamicPanel, difference_design, gmm_design, levels_design
 from steadyfit.panel.estimators import estimate
-from steadyfit.panel.gmm import band_weight, economy_sums, gmm
+from steadyfit.panel.gmm import band_weight, gmm
 
 AB_REGRESSORS = ["lwage", ("lwage", 1), "lcapital", ("lcapital", 1), ("lcapital", 2),
                  "loutput", ("loutput", 1), ("loutput", 2)]
@@ -140,7 +140,7 @@ def test_windmeijer_equals_a_numerical_derivative(emplUK, system):
     one, two = gmm(d, w1, 1), gmm(d, w1, 2)
 
     def two_step_from(b1):
-        g = economy_sums(d.Z * (d.y - d.X @ b1)[:, None], d.economy)
+        g = d.sums(d.Z * (d.y - d.X @ b1)[:, None])
         w2 = np.linalg.pinv(g.T @ g, hermitian=True)
         A = d.X.T @ d.Z
         return np.linalg.solve(A @ w2 @ A.T, A @ w2 @ (d.Z.T @ d.y))

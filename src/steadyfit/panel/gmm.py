@@ -51,13 +51,6 @@ class GmmSolution:
         return f"GmmSolution({self.steps}-step, {len(self.coef)} coefficients)"
 
 
-def economy_sums(values: np.ndarray, economy: np.ndarray) -> np.ndarray:
-    """Rows of ``values`` summed within each economy (rows sorted by economy): one row per
-    economy present.  A design's own ``StackedDesign.sums`` keeps the boundaries."""
-    starts = np.flatnonzero(np.r_[True, economy[1:] != economy[:-1]])
-    return np.add.reduceat(values, starts, axis=0)
-
-
 def band_weight(d: StackedDesign) -> np.ndarray:
     """``(Z'HZ)^-1``: ``H`` has 2 on the diagonal and -1 between consecutive differenced
     periods of an economy for rows in differences, 1 on the diagonal for rows in levels."""
