@@ -53,17 +53,16 @@ class GmmSolution:
 
 def band_weight(d: StackedDesign) -> np.ndarray:
     """``(Z'HZ)^-1``: ``H`` has 2 on the diagonal and -1 between consecutive differenced
-    periods of an economy for rows in differences, 1 on the diagonal for rows in levels."""
+    periods of an economy for rows in differences, 1 on the diagonal for rows in levels.
+    ``HZ`` is formed row by row (the band touches neighbours only), then one product."""
     assert d.Z is not None
     Z = d.Z
-    diff = d.block == 0
-    zhz = Z.T @ Z
-    zhz += zhz if diff.all() else Z[diff].T @ Z[diff]  # 2 on the differenced rows' diagonal
+    hz = Z * np.where(d.block == 0, 2.0, 1.0)[:, None]
     if d.adjacent is not None and len(d.adjacent):
         a, b = d.adjacent[:, 0], d.adjacent[:, 1]
-        cross = Z[a].T @ Z[b]
-        zhz -= cross + cross.T
-    return _inverse(zhz)
+        hz[a] -= Z[b]
+        hz[b] -= Z[a]
+    return _inverse(Z.T @ hz)
 
 
 def two_sls_weight(d: StackedDesign) -> np.ndarray:
