@@ -233,6 +233,11 @@ def _period_dummies(periods: np.ndarray, used: Sequence[int], drop_first: bool
     return (periods[:, None] == np.asarray(keep)[None, :]).astype(float), keep
 
 
+def _periods_of(t: np.ndarray) -> list[int]:
+    """The distinct periods among rows, in order."""
+    return np.flatnonzero(np.bincount(t)).tolist()
+
+
 def _rows(mask: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Economy and period positions of the True cells, economy-major."""
     e, t = np.nonzero(mask)
@@ -248,7 +253,7 @@ def levels_design(panel: DynamicPanel, time_effects: bool = True, constant: bool
     X = [R[e, t]]
     names = list(panel.regressor_names)
     if time_effects:
-        d, keep = _period_dummies(t, sorted(set(t.tolist())), drop_first=True)
+        d, keep = _period_dummies(t, _periods_of(t), drop_first=True)
         X.append(d)
         names += [f"period {panel.periods[p]}" for p in keep]
     if constant:
@@ -282,12 +287,13 @@ def difference_design(panel: DynamicPanel, time_effects: bool = True) -> Stacked
     ok = ok & np.isfinite(y2)  # a new mask: the cached one serves other estimators
     e, t = _rows(ok)
     block = np.zeros(len(e), dtype=int)
-    X = [dR[e, t]]
+    changes = dR[e, t]
+    X = [changes]
     names = list(panel.regressor_names)
-    Z = [y2[e, t][:, None], dR[e, t][:, 1:]]
+    Z = [y2[e, t][:, None], changes[:, 1:]]
     z_names = [lag_name(panel.dependent, 2)] + [f"D.{n}" for n in names[1:]]
     if time_effects:
-        used = sorted(set(t.tolist()))
+        used = _periods_of(t)
         d = _time_columns(t, block, used)
         X.append(d)
         Z.append(d)
@@ -355,8 +361,8 @@ def gmm_design(panel: DynamicPanel, system: bool = False, max_lag: int | None = 
         # there the periods of its rows suffice; system GMM also needs the level of the
         # effect in the period before each differenced row (else the first period's change
         # would tie the levels equation's intercept to zero)
-        reached = set(t_d.tolist())
-        used = sorted(reached | ({p - 1 for p in reached} if system else set()))
+        reached = _periods_of(t_d)
+        used = sorted(set(reached) | ({p - 1 for p in reached} if system else set()))
         d = _time_columns(t, block, used)
         cols.append(d)
         zcols.append(d)
