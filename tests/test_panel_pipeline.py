@@ -235,3 +235,33 @@ def test_treatment_reaches_both_fits(sumhes):
         more = getattr(treated, fit).n_instruments - getattr(plain, fit).n_instruments
         assert more >= 3, (fit, more)
         assert not np.allclose(getattr(treated, fit).coef, getattr(plain, fit).coef)
+
+
+def test_panel_quantities_are_targets(sumhes):
+    """A target on a panel quantity, written as the tables print it ('within:lambda'), is
+    checked against the run: the value here is the speed implied by the restricted within
+    fit of the panel the spec builds, recomputed from its gamma."""
+    found = steadyfit.run(sumhes / "sumhes.toml").panels[0].estimator("within")
+    gamma = float(found.restricted.coef[0])
+    lam = float(-np.log(gamma) / 5)
+    spec = sumhes / "targets.toml"
+    spec.write_text(SPEC + f"""
+[[target]]
+equation = "panel"
+sample = "all"
+quantity = "within:lambda"
+value = {lam!r}
+tolerance = 1e-9
+source = "the restricted within gamma of this panel, mapped by hand"
+
+[[target]]
+equation = "panel"
+sample = "all"
+quantity = "system_gmm:gamma"
+value = 5.0
+tolerance = 0.1
+source = "a value no estimate reaches: the scorecard must say missed"
+""", encoding="utf-8")
+    card = steadyfit.run(spec).scorecard
+    assert [t.quantity for t in card] == ["within:lam", "system_gmm:gamma"]
+    assert card[0].met and not card[1].met
