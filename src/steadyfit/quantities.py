@@ -239,7 +239,7 @@ def panel_quantities(p: PanelFindings) -> tuple[dict[str, float | None], dict[st
             put(f"{m}:restriction_wald", f.wald_test.statistic, f.wald_test.reason)
             put(f"{m}:restriction_wald_p", f.wald_test.pvalue, f.wald_test.reason)
         for key, starts in tests.items():
-            t = next((t for t in f.unrestricted.tests if t.name.startswith(starts)), None)
+            t = f.unrestricted.test(*starts)
             if t is None:
                 continue
             stat, pname = ((key, f"{key}_p") if key != "first_stage_f" else

@@ -36,7 +36,6 @@ from .results import EstimatorFindings, PanelFindings, PanelFit
 _TREATED = {"invest": "ln_sk", "schooling": "ln_sh", "human_stock": "ln_h",
             "workforce_growth": "ln_ngd"}
 _ORDER = ("exogenous", "predetermined", "endogenous")
-LAG = "ln_y(t-1)"
 
 
 def sample_economies(table: EconomyTable, spec: Spec, sample: str) -> tuple[list[str], int]:

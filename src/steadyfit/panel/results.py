@@ -62,8 +62,10 @@ class PanelFit:
     def slope_cov(self) -> np.ndarray:
         return self.cov[: self.slopes, : self.slopes]
 
-    def test(self, name: str) -> TestResult | None:
-        return next((t for t in self.tests if t.name.startswith(name)), None)
+    def test(self, *names: str) -> TestResult | None:
+        """The first test whose name starts with one of ``names`` ('AR(2)'; 'Sargan',
+        'Hansen'), or None."""
+        return next((t for t in self.tests if t.name.startswith(names)), None)
 
 
 @dataclass(frozen=True)

@@ -7,10 +7,10 @@ import math
 from dataclasses import replace
 
 from ..equations import get_form
-from ..findings import Findings, TestResult
+from ..findings import Findings
 from ..labels import GAMMA, MINUS, quantity_label
 from ..panel.methods import ASSUMES, TITLES
-from ..panel.results import EstimatorFindings, PanelFindings
+from ..panel.results import PanelFindings
 from .model import NOT_AVAILABLE, PLACEHOLDER, Cell, Reasons, Row, Table, estimate_cell, test_cell
 
 LAG_LABEL = f"ln(y) of the period before, {GAMMA}"
@@ -20,18 +20,9 @@ def _coef(fit_coef: float, se: float) -> Cell:
     return Cell("number", fit_coef, se if math.isfinite(se) else math.nan)
 
 
-def _test_p(t: TestResult | None, reasons: Reasons, where: str) -> Cell:
-    return test_cell(t, False, reasons, where) if t is not None else Cell("text", PLACEHOLDER)
-
-
-def _find(f: EstimatorFindings, *starts: str) -> TestResult | None:
-    return next((t for t in f.unrestricted.tests if t.name.startswith(starts)), None)
-
-
 def panel_table(findings: Findings, p: PanelFindings) -> Table:
     """Every estimator of one panel equation on one sample, side by side."""
     form = get_form(p.form_key, float(p.period_years))
-    symbols = None  # the default symbols of the model variables
     est = p.estimators
     reasons = Reasons()
     rows: list[Row] = []
@@ -39,7 +30,7 @@ def panel_table(findings: Findings, p: PanelFindings) -> Table:
     def coefficient_rows(restricted: bool, section: str) -> None:
         regs = form.restricted if restricted else form.unrestricted
         for j, reg in enumerate(regs):
-            label = LAG_LABEL if reg.name == "ln_y0" else reg.text(symbols)
+            label = LAG_LABEL if reg.name == "ln_y0" else reg.text()
             cells = []
             for f in est:
                 fit = f.restricted if restricted else f.unrestricted
@@ -66,18 +57,16 @@ def panel_table(findings: Findings, p: PanelFindings) -> Table:
                                if v.band_status) or PLACEHOLDER) for f in est)))
     tests = (
         ("restriction (Wald), p", lambda f: f.wald_test),
-        ("over-identification, p", lambda f: _find(f, "Sargan", "Hansen")),
-        ("AR(1) in differences, p", lambda f: _find(f, "AR(1)")),
-        ("AR(2) in differences, p", lambda f: _find(f, "AR(2)")),
-        ("first-stage F", lambda f: _find(f, "first-stage")),
+        ("over-identification, p", lambda f: f.unrestricted.test("Sargan", "Hansen")),
+        ("AR(1) in differences, p", lambda f: f.unrestricted.test("AR(1)")),
+        ("AR(2) in differences, p", lambda f: f.unrestricted.test("AR(2)")),
+        ("first-stage F", lambda f: f.unrestricted.test("first-stage")),
     )
     for i, (label, pick) in enumerate(tests):
         cells = []
         for f in est:
-            t = pick(f)
-            stat = label.startswith("first-stage")
-            cells.append(test_cell(t, stat, reasons, f"{label}, {f.title}")
-                         if t is not None else Cell("text", PLACEHOLDER))
+            cells.append(test_cell(pick(f), label.startswith("first-stage"), reasons,
+                                   f"{label}, {f.title}"))
         rows.append(Row(label, tuple(cells), "Tests" if i == 0 else None))
     rows.append(Row("within the within-to-pooled bracket", tuple(
         Cell("text", PLACEHOLDER if f.bracket is None else
@@ -133,9 +122,10 @@ def panel_key_table(findings: Findings) -> Table | None:
             numbers = [f.gamma, f.speed_estimate("lam"),
                        *(f.share_estimate(s) for s in shares)]
             cells = [_narrow(estimate_cell(e, reasons, where, se=False)) for e in numbers]
-            cells += [_test_p(f.wald_test, reasons, where),
-                      _test_p(_find(f, "AR(2)"), reasons, where),
-                      _test_p(_find(f, "Sargan", "Hansen"), reasons, where),
+            cells += [test_cell(f.wald_test, False, reasons, where),
+                      test_cell(f.unrestricted.test("AR(2)"), False, reasons, where),
+                      test_cell(f.unrestricted.test("Sargan", "Hansen"), False, reasons,
+                                where),
                       Cell("text", PLACEHOLDER if f.bracket is None else
                            ("inside" if f.bracket.inside else "outside"))]
             rows.append(Row(TITLES[f.method], tuple(cells), p.heading if i == 0 else None))
