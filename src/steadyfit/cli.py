@@ -177,10 +177,21 @@ def _demo(out: Path, quiet: bool) -> int:
     return _run(spec_path, out / "reports", quiet)
 
 
+# signals received during the current command: an interrupt that lands while a compiled
+# module is being imported comes back as that module's ImportError, not as the interrupt
+_RECEIVED: list[int] = []
+
+
 def _on_sigterm(signum: int, frame: object) -> None:
     from .errors import Terminated
 
+    _RECEIVED.append(signum)
     raise Terminated(signum)
+
+
+def _on_sigint(signum: int, frame: object) -> None:
+    _RECEIVED.append(signum)
+    raise KeyboardInterrupt
 
 
 def main(argv: Sequence[str] | None = None) -> int:
@@ -190,10 +201,12 @@ def main(argv: Sequence[str] | None = None) -> int:
     args = _parser().parse_args(argv)
     from .errors import InputError, Terminated
 
-    previous = None
+    previous = previous_int = None
+    _RECEIVED.clear()
     if threading.current_thread() is threading.main_thread():
         # SIGTERM ends the run through the same clean-up as Ctrl-C: no temporary folder is left
         previous = signal.signal(signal.SIGTERM, _on_sigterm)
+        previous_int = signal.signal(signal.SIGINT, _on_sigint)
     try:
         if args.command == "run":
             return _run(args.spec, args.out, args.quiet, args.strict)
@@ -220,6 +233,11 @@ def main(argv: Sequence[str] | None = None) -> int:
         print("steadyfit: terminated", file=sys.stderr)
         return 143
     except Exception as exc:  # an internal error: say so, keep the traceback behind --debug
+        if _RECEIVED:  # the error is how an interrupted import reported the signal
+            interrupted = _RECEIVED[0] == signal.SIGINT
+            print(f"steadyfit: {'interrupted' if interrupted else 'terminated'}",
+                  file=sys.stderr)
+            return 130 if interrupted else 143
         if args.debug:
             raise
         from .errors import quote
@@ -230,6 +248,8 @@ def main(argv: Sequence[str] | None = None) -> int:
     finally:
         if previous is not None:
             signal.signal(signal.SIGTERM, previous)
+        if previous_int is not None:
+            signal.signal(signal.SIGINT, previous_int)
 
 
 if __name__ == "__main__":
