@@ -39,7 +39,7 @@
    treatments) and its diagnostics cost.  Timed from built panels (steadyfit:
    ``DynamicPanel``; reference: arrays), and once more from the long tables.
 
-Run: python benchmarks/bench_panel.py [--repeat N]
+Run: python benchmarks/bench_panel.py [--repeat N] [--part within|monte-carlo] [--profile]
 """
 
 from __future__ import annotations
@@ -329,19 +329,27 @@ def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("--repeat", type=int, default=7)
     ap.add_argument("--memory-probe", choices=("steadyfit", "linearmodels"), help=argparse.SUPPRESS)
+    ap.add_argument("--part", choices=("all", "within", "monte-carlo"), default="all",
+                    help="run one part only")
     ap.add_argument("--profile", action="store_true",
                     help="print the top functions of steadyfit's Monte Carlo run (cProfile)")
     args = ap.parse_args()
     if args.memory_probe:
         memory_probe(args.memory_probe)
         return
+    if args.part in ("all", "within"):
+        within_part(args.repeat)
+    if args.part in ("all", "monte-carlo"):
+        monte_carlo_part(args.repeat, args.profile)
 
+
+def within_part(repeat: int) -> None:
+    """1. within: steadyfit against PanelOLS."""
     from linearmodels.panel import PanelOLS
 
     from steadyfit.panel.design import DynamicPanel
     from steadyfit.panel.estimators import estimate
 
-    # 1. within: steadyfit against PanelOLS --------------------------------------------------
     frame = static_panel()
     regressors = ["x1", "x2", "x3"]
     indexed = frame.set_index(["economy", "year"])
@@ -359,8 +367,8 @@ def main() -> None:
             cov_type="clustered", cluster_entity=True)
 
     ours(), theirs()  # warm up
-    t_lm, t_sf = _alternate(theirs, ours, args.repeat)
-    t_build = min(_timed(build) for _ in range(args.repeat))
+    t_lm, t_sf = _alternate(theirs, ours, repeat)
+    t_build = min(_timed(build) for _ in range(repeat))
     gap = float(np.max(np.abs(ours().coef[:3] - theirs().params[regressors].to_numpy())))
     se_gap = float(np.max(np.abs(ours().se[:3] - theirs().std_errors[regressors].to_numpy())))
     mem = {which: _probe(which) for which in ("steadyfit", "linearmodels")}
@@ -385,7 +393,13 @@ def main() -> None:
     print(f"  tracemalloc peak, steadyfit from_long + estimate: {a / 2**20:6.1f} MiB,"
           f" ratio {a / b:5.2f}")
 
-    # 2. Monte Carlo: five estimators against the numpy reference -----------------------------
+
+
+def monte_carlo_part(repeat: int, profile: bool) -> None:
+    """2. Monte Carlo: five estimators against the numpy reference."""
+    from steadyfit.panel.design import DynamicPanel
+    from steadyfit.panel.estimators import estimate
+
     frames = [growth_panel(seed) for seed in range(MC_REPLICATIONS)]
 
     def sf_panel(f: pd.DataFrame) -> DynamicPanel:
@@ -419,8 +433,8 @@ def main() -> None:
         ours_, ref = sf_all(p), reference_estimates(y, x)
         for m in METHODS:
             worst[m] = max(worst[m], float(np.max(np.abs(ours_[m] - ref[m]))))
-    t_ref, t_mc = _alternate(ref_run, sf_run, args.repeat)
-    t_ref_long, t_mc_long = _alternate(ref_run_long, sf_run_long, max(1, args.repeat // 2))
+    t_ref, t_mc = _alternate(ref_run, sf_run, repeat)
+    t_ref_long, t_mc_long = _alternate(ref_run_long, sf_run_long, max(1, repeat // 2))
 
     fits = MC_REPLICATIONS * len(METHODS)
     print(f"Monte Carlo: {MC_REPLICATIONS} replications x 5 estimators, {MC_ECONOMIES} economies"
@@ -437,11 +451,11 @@ def main() -> None:
           + ", ".join(f"{short[m]} {worst[m]:.1e}" for m in METHODS[:3]))
     print("    " + ", ".join(f"{short[m]} {worst[m]:.1e}" for m in METHODS[3:]))
     per_fit = {m: min(_timed(lambda m=m: [estimate(p, m, steps=2) for p in panels])
-                      for _ in range(args.repeat)) / MC_REPLICATIONS for m in METHODS}
+                      for _ in range(repeat)) / MC_REPLICATIONS for m in METHODS}
     print("  steadyfit per fit: "
           + ", ".join(f"{short[m]} {per_fit[m] * 1e3:.2f}" for m in METHODS) + " ms")
 
-    if args.profile or t_mc / t_ref > 3:
+    if profile or t_mc / t_ref > 3:
         print("  where steadyfit's Monte Carlo time goes (cProfile, one pass; cumulative, own"
               " time, calls):")
         for line in _top_functions(sf_run, 12):

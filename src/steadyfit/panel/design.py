@@ -19,7 +19,7 @@ holds integer codes into ``DynamicPanel.economies``.
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping, Sequence
+from collections.abc import Iterator, Mapping, Sequence
 from dataclasses import dataclass
 from functools import cached_property, reduce
 from typing import Literal, get_args
@@ -88,6 +88,14 @@ class DynamicPanel:
         ok_d = np.zeros_like(ok)
         ok_d[:, 1:] = ok[:, 1:] & ok[:, :-1]
         return self.y - shift(self.y, 1), R - shift(R, 1), ok_d
+
+    @cached_property
+    def stacked(self) -> tuple[np.ndarray, np.ndarray]:
+        """The dependent variable (equation x economies x periods) and the regressors
+        (equation x economies x periods x regressors) of both equations: differences first,
+        levels second, so the rows of a stacked design are one gather."""
+        dy, dR, _ = self.differences
+        return np.stack([dy, self.y]), np.stack([dR, self.regressors()])
 
     @classmethod
     def from_long(cls, frame: pd.DataFrame, economy: str, period: str, dependent: str,
@@ -200,23 +208,90 @@ class StackedDesign:
     def n_economies(self) -> int:
         return len(self.starts)
 
+    def earlier(self, order: int) -> np.ndarray:
+        """For each row, the row of the same economy and equation dated ``order`` periods
+        before, -1 where there is none.  Rows run by period within an economy's equation, so
+        that row lies at most ``order`` positions back."""
+        out = np.full(self.nobs, -1)
+        key = self.economy * 2 + self.block
+        for back in range(1, min(order, self.nobs - 1) + 1):
+            hit = (key[back:] == key[:-back]) & (self.period[:-back] == self.period[back:] - order)
+            out[back:][hit] = np.flatnonzero(hit)
+        return out
+
     @cached_property
-    def differenced_rows(self) -> np.ndarray:
-        """(economies x periods) grid of the row holding each differenced economy-period,
-        -1 where there is none."""
-        at = np.full((int(self.economy.max(initial=0)) + 1, int(self.period.max(initial=0)) + 1),
-                     -1)
-        rows = np.flatnonzero(self.block == 0)
-        at[self.economy[rows], self.period[rows]] = rows
-        return at
+    def uniform(self) -> int | None:
+        """The number of rows per economy when every economy has the same rows (equations
+        and periods, in the same order), else None: the stack is then one block repeated."""
+        r = self.rows_each
+        if r is None:
+            return None
+        n = self.n_economies
+        same = ((self.block.reshape(n, r) == self.block[:r]).all()
+                and (self.period.reshape(n, r) == self.period[:r]).all())
+        return r if same else None
 
     @cached_property
     def n_periods(self) -> int:
         return int(np.count_nonzero(np.bincount(self.period)))
 
-    def sums(self, values: np.ndarray) -> np.ndarray:
-        """Rows of ``values`` summed within each economy (one row per economy present)."""
+    @cached_property
+    def rows_each(self) -> int | None:
+        """The number of rows every economy has, None when they differ."""
+        counts = np.diff(np.append(self.starts, self.nobs))
+        return int(counts[0]) if len(counts) and (counts == counts[0]).all() else None
+
+    def sums(self, values: np.ndarray, weights: np.ndarray | None = None) -> np.ndarray:
+        """Rows of ``values`` (each times its entry of ``weights``) summed within each economy,
+        one row per economy present.  When every economy has the same number of rows, the
+        rows are a stack of equal blocks and the weighted sums one batched product."""
+        r = self.rows_each
+        if r is not None and weights is not None and values.ndim == 2:
+            n = len(self.starts)
+            return (weights.reshape(n, 1, r) @ values.reshape(n, r, -1))[:, 0]
+        if weights is not None:
+            values = values * (weights[:, None] if values.ndim == 2 else weights)
         return np.add.reduceat(values, self.starts, axis=0)
+
+
+@dataclass(frozen=True)
+class Cells:
+    """Stacked rows laid out by equation block (0 differenced, 1 levels) and period.
+
+    ``economy``, ``block`` and ``period`` give each row's place; ``by_cell`` maps each
+    (block, period) that has rows to those rows and their economies, so a column can
+    be written one period at a time from the grid."""
+
+    economy: np.ndarray
+    block: np.ndarray
+    period: np.ndarray
+    by_cell: dict[tuple[int, int], tuple[np.ndarray, np.ndarray]]
+
+    @classmethod
+    def of(cls, present: np.ndarray) -> Cells:
+        """The rows where ``present`` (economies x blocks x periods) holds: by economy, then
+        block, then period."""
+        e, b, t = np.nonzero(present)
+        at = np.zeros(present.shape, dtype=np.intp)
+        at[e, b, t] = np.arange(len(e))
+        by_cell = {}
+        for block, period in zip(*np.nonzero(present.any(axis=0)), strict=True):
+            econ = np.flatnonzero(present[:, block, period])
+            by_cell[int(block), int(period)] = (at[econ, block, period], econ)
+        return cls(e, b, t, by_cell)
+
+    @property
+    def nobs(self) -> int:
+        return len(self.economy)
+
+    def __iter__(self) -> Iterator[tuple[int, int]]:
+        return iter(self.by_cell)
+
+    def __contains__(self, cell: object) -> bool:
+        return cell in self.by_cell
+
+    def __getitem__(self, cell: tuple[int, int]) -> tuple[np.ndarray, np.ndarray]:
+        return self.by_cell[cell]
 
 
 def _complete(*arrays: np.ndarray) -> np.ndarray:
@@ -333,49 +408,39 @@ def gmm_design(panel: DynamicPanel, system: bool = False, max_lag: int | None = 
                              f"treatment.{name}")
     if panel.lags < 1:
         raise ValueError("GMM needs the lagged dependent variable")
-    dy, dR, ok_d = panel.differences
-    R = panel.regressors()
-    ok_l = panel.complete & ok_d if system else np.zeros_like(ok_d)
-    e_d, t_d = _rows(ok_d)
-    e_l, t_l = _rows(ok_l)
-    block = np.concatenate([np.zeros(len(e_d), dtype=int), np.ones(len(e_l), dtype=int)])
-    if system:  # rows by economy, then the differenced rows before the rows in levels
-        order = np.lexsort((np.concatenate([t_d, t_l]), block, np.concatenate([e_d, e_l])))
-        e, t = np.concatenate([e_d, e_l])[order], np.concatenate([t_d, t_l])[order]
-        block = block[order]
-    else:
-        e, t = e_d, t_d
-    diff = block == 0
-    y = panel.y[e, t]
-    y[diff] = dy[e[diff], t[diff]]
-    X = R[e, t]
-    X[diff] = dR[e[diff], t[diff]]
+    ok_d = panel.differences[2]
+    # rows by economy, then the differenced rows before the rows in levels, then period
+    cells = Cells.of(np.stack([ok_d, panel.complete & ok_d if system
+                               else np.zeros_like(ok_d)], axis=1))
     names = list(panel.regressor_names)
-    kinds = {n: treatment.get(n, "exogenous") for n in panel.x_names}
-    Z, z_names = gmm_instruments(panel, e, t, block, kinds, max_lag, collapse)
-    cols = [X]
-    zcols = [Z]
+    z_names: list[str]
+    extra: list[str] = []  # period effects (or the constant), in both X and Z
+    used: list[int] = []
     if time_effects:
         # one effect per period the differences reach: in levels its dummy, in differences
         # the dummy's change.  The differenced equation alone identifies only changes, so
         # there the periods of its rows suffice; system GMM also needs the level of the
         # effect in the period before each differenced row (else the first period's change
         # would tie the levels equation's intercept to zero)
-        reached = _periods_of(t_d)
+        reached = sorted(p for b, p in cells if b == 0)
         used = sorted(set(reached) | ({p - 1 for p in reached} if system else set()))
-        d = _time_columns(t, block, used)
-        cols.append(d)
-        zcols.append(d)
-        periods = [f"period {panel.periods[p]}" for p in used]
-        names += periods
-        z_names += periods
+        extra = [f"period {panel.periods[p]}" for p in used]
     elif system:
-        const = (~diff).astype(float)[:, None]
-        cols.append(const)
-        zcols.append(const)
-        names.append("const")
-        z_names.append("const")
+        extra = ["const"]
+    kinds = {n: treatment.get(n, "exogenous") for n in panel.x_names}
+    Z, z_names = gmm_instruments(panel, cells, kinds, max_lag, collapse, len(extra))
+    e, t, block = cells.economy, cells.period, cells.block
+    k = len(names)
+    ys, Rs = panel.stacked
+    X = np.empty((cells.nobs, k + len(extra)))
+    X[:, :k] = Rs[block, e, t]
+    if extra:
+        effects = (_time_columns(t, block, used) if time_effects
+                   else block.astype(float)[:, None])  # the constant: 1 in levels
+        X[:, k:] = effects
+        Z[:, -len(extra):] = effects
+    diff = block == 0
     same = (e[1:] == e[:-1]) & diff[1:] & diff[:-1] & (t[1:] == t[:-1] + 1)
     adjacent = np.column_stack([np.nonzero(same)[0], np.nonzero(same)[0] + 1])
-    return StackedDesign(y, np.column_stack(cols), tuple(names), R.shape[2], e, t, block,
-                         np.column_stack(zcols), tuple(z_names), adjacent)
+    return StackedDesign(ys[block, e, t], X, tuple(names + extra), k, e, t, block, Z,
+                         tuple(z_names + extra), adjacent)

@@ -34,9 +34,8 @@ def serial_correlation(d: StackedDesign, sol: GmmSolution, order: int) -> TestRe
     diff = d.block == 0
     u = sol.resid
     # the residual of the same economy `order` periods earlier, among differenced rows
-    before = d.period - order
-    earlier = np.where(before >= 0, d.differenced_rows[d.economy, np.maximum(before, 0)], -1)
-    w = np.where(diff & (earlier >= 0), u[np.maximum(earlier, 0)], 0.0)
+    earlier = d.earlier(order)
+    w = np.where(diff & (earlier >= 0), u[earlier], 0.0)
     v = np.where(diff & (w != 0), u, 0.0)
     if not np.any(v):
         return TestResult.not_available(name, null, f"no economy has differenced residuals "
@@ -81,7 +80,7 @@ def first_stage(d: StackedDesign, column: int, excluded: list[int], zz: np.ndarr
     target = X[:, column]
     coef = zz @ (Z.T @ target)
     e = target - Z @ coef
-    g = d.sums(Z * e[:, None])
+    g = d.sums(Z, e)
     n_e = g.shape[0]
     V = zz @ (g.T @ g) @ zz * n_e / (n_e - 1)
     c = coef[excluded]

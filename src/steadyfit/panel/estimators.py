@@ -22,7 +22,7 @@ from .design import (
     levels_design,
 )
 from .diagnostics import first_stage, instrument_count, serial_correlation
-from .gmm import band_weight, gmm, overidentification, two_sls_weight
+from .gmm import band_weight, gmm, overidentification, symmetric_inverse, two_sls_weight
 from .methods import METHODS
 from .results import PanelFit
 
@@ -39,10 +39,10 @@ def _ols(d: StackedDesign, y: np.ndarray, X: np.ndarray) -> tuple[np.ndarray, np
                                                                      np.ndarray]:
     """OLS with the clustered (by economy) sandwich covariance."""
     xx = X.T @ X
-    bread = np.linalg.inv(xx)
+    bread = symmetric_inverse(xx)
     coef = bread @ (X.T @ y)
     u = y - X @ coef
-    g = d.sums(X * u[:, None])
+    g = d.sums(X, u)
     return coef, bread @ (g.T @ g) @ bread, u
 
 

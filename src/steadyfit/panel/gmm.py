@@ -22,6 +22,7 @@ No ``1/N`` scaling appears anywhere: every formula is invariant to it.
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 
@@ -57,9 +58,19 @@ def band_weight(d: StackedDesign) -> np.ndarray:
     ``HZ`` is formed row by row (the band touches neighbours only), then one product."""
     assert d.Z is not None
     Z = d.Z
-    hz = Z * np.where(d.block == 0, 2.0, 1.0)[:, None]
-    if d.adjacent is not None and len(d.adjacent):
-        a, b = d.adjacent[:, 0], d.adjacent[:, 1]
+    scale = np.where(d.block == 0, 2.0, 1.0)[:, None]
+    pairs = d.adjacent if d.adjacent is not None else np.empty((0, 2), dtype=int)
+    r = d.uniform
+    if r is not None:  # every economy alike: the band of the first applies to each block
+        stack = Z.reshape(-1, r, Z.shape[1])
+        hz = stack * scale[:r]
+        for a, b in pairs[pairs[:, 1] < r]:
+            hz[:, a] -= stack[:, b]
+            hz[:, b] -= stack[:, a]
+        return _inverse(Z.T @ hz.reshape(Z.shape))
+    hz = Z * scale
+    if len(pairs):
+        a, b = pairs[:, 0], pairs[:, 1]
         hz[a] -= Z[b]
         hz[b] -= Z[a]
     return _inverse(Z.T @ hz)
@@ -74,22 +85,56 @@ def _inverse(m: np.ndarray) -> np.ndarray:
     """Inverse of a symmetric positive semi-definite matrix through its Cholesky factor; the
     Moore-Penrose inverse when it is singular or nearly so (redundant instruments), as is
     usual for GMM weights."""
-    from scipy.linalg import lapack
-
-    c, info = lapack.dpotrf(m, lower=True)
-    if info == 0:
-        pivots = np.abs(np.diag(c))
-        if pivots.min() > 1e-7 * pivots.max():
-            inv, info = lapack.dpotri(c, lower=True)  # fills the lower triangle
-            if info == 0:
-                return np.tril(inv) + np.tril(inv, -1).T
+    inv = _cholesky_inverse(m, 1e-7)
+    if inv is not None:
+        return inv
     p = np.linalg.pinv(m, hermitian=True)
     return (p + p.T) / 2
 
 
+def symmetric_inverse(m: np.ndarray) -> np.ndarray:
+    """Inverse of a symmetric positive definite matrix (a cross-product of regressors): its
+    Cholesky factor's, or, where that fails, the general inverse (which raises on an exactly
+    singular matrix).  The factor reads one triangle, so ``m`` is first made exactly
+    symmetric: a product like ``A W A'`` carries rounding that differs between them."""
+    inv = _cholesky_inverse((m + m.T) / 2, 0.0)
+    return np.linalg.inv(m) if inv is None else inv
+
+
+def _cholesky_inverse(m: np.ndarray, tolerance: float) -> np.ndarray | None:
+    """The inverse from the Cholesky factor, None when ``m`` is not positive definite or a
+    pivot is below ``tolerance`` times the largest."""
+    c, info = _lapack().dpotrf(m, lower=True)
+    if info != 0:
+        return None
+    pivots = np.abs(c.diagonal()).tolist()
+    if not pivots or min(pivots) <= tolerance * max(pivots):
+        return None
+    inv, info = _lapack().dpotri(c, lower=True)  # fills the lower triangle
+    if info != 0:
+        return None
+    upper = _upper(len(m))
+    inv[upper] = inv.T[upper]
+    return inv
+
+
+@functools.cache
+def _upper(k: int) -> tuple[np.ndarray, np.ndarray]:
+    """Positions above the diagonal of a k x k matrix."""
+    return np.triu_indices(k, 1)
+
+
+@functools.cache
+def _lapack():
+    """scipy's LAPACK wrappers, imported on first use (the import is slow)."""
+    from scipy.linalg import lapack
+
+    return lapack
+
+
 def _solve(A: np.ndarray, W: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """(coef, bread) for coef = (A W A')^-1 A W b, bread = (A W A')^-1."""
-    bread = np.linalg.inv(A @ W @ A.T)
+    bread = symmetric_inverse(A @ W @ A.T)
     return bread @ (A @ W @ b), bread
 
 
@@ -102,7 +147,7 @@ def gmm(d: StackedDesign, weight: np.ndarray, steps: int = 1) -> GmmSolution:
     A, b = X.T @ Z, Z.T @ y
     b1, bread1 = _solve(A, weight, b)
     u1 = y - X @ b1
-    g1 = d.sums(Z * u1[:, None])
+    g1 = d.sums(Z, u1)
     S1 = g1.T @ g1
     M1 = bread1 @ A @ weight
     V1 = M1 @ S1 @ M1.T
@@ -115,7 +160,7 @@ def gmm(d: StackedDesign, weight: np.ndarray, steps: int = 1) -> GmmSolution:
     M2 = V2 @ A @ W2
     D = windmeijer_derivative(d, W2, M2, g1, u2)
     Vc = V2 + D @ V2 + V2 @ D.T + D @ V1 @ D.T
-    g2 = d.sums(Z * u2[:, None])
+    g2 = d.sums(Z, u2)
     return GmmSolution(b2, Vc, u2, W2, g2.sum(axis=0), 2, b1, V1, V2, by_economy=g2,
                        influence=M2)
 
@@ -134,7 +179,7 @@ def windmeijer_derivative(d: StackedDesign, W2: np.ndarray, M2: np.ndarray, g1: 
     Z, X = d.Z, d.X
     q = W2 @ (Z.T @ u2)
     gq = g1 @ q
-    bracket = Z.T @ (X * gq[d.row_group][:, None]) + g1.T @ d.sums(X * (Z @ q)[:, None])
+    bracket = Z.T @ (X * gq[d.row_group][:, None]) + g1.T @ d.sums(X, Z @ q)
     return M2 @ bracket
 
 
