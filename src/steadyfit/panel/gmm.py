@@ -134,8 +134,9 @@ def _lapack():
 
 def _solve(A: np.ndarray, W: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """(coef, bread) for coef = (A W A')^-1 A W b, bread = (A W A')^-1."""
-    bread = symmetric_inverse(A @ W @ A.T)
-    return bread @ (A @ W @ b), bread
+    AW = A @ W
+    bread = symmetric_inverse(AW @ A.T)
+    return bread @ (AW @ b), bread
 
 
 def gmm(d: StackedDesign, weight: np.ndarray, steps: int = 1) -> GmmSolution:
