@@ -31,7 +31,7 @@ def test_saving_gap_rules_of_thumb():
     gap; with a = 2/3 it gives 16; and the share that turns 4 into 2 is 1/3."""
     assert income_ratio(1 / 3, 0.0, 4.0) == pytest.approx(2.0)
     assert income_ratio(2 / 3, 0.0, 4.0) == pytest.approx(16.0)
-    assert required_share(2.0, 4.0) == pytest.approx(1 / 3)
+    assert required_share(2.0, 4.0).share == pytest.approx(1 / 3)
     with pytest.raises(ValueError):
         half_life(0.0)
 
