@@ -11,7 +11,6 @@ from __future__ import annotations
 
 import hashlib
 import re
-import tomllib
 from collections.abc import Mapping
 from pathlib import Path
 from typing import Any, Literal, get_args
@@ -21,16 +20,16 @@ from pydantic import (
     ConfigDict,
     Field,
     StrictBool,
-    ValidationError,
     field_validator,
     model_validator,
 )
 
 from . import equations
-from .errors import InputError, did_you_mean, one_of, quote
+from .errors import InputError, did_you_mean, quote
 from .estimators import CovarianceName
 from .panel.methods import METHODS, Method
 from .quantities import canonical, quantity_names
+from .tomlinput import MAX_DEPTH, read_toml, too_deep, validate
 
 Unit = Literal["percent", "fraction"]
 NonPositive = Literal["error", "drop"]
@@ -398,19 +397,7 @@ def safe_stem(stem: str) -> str:
 def load_spec(path: str | Path) -> Spec:
     """Read and validate a TOML spec; relative paths inside resolve against its folder."""
     path = Path(path)
-    try:
-        text = path.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise InputError(f"spec file '{path}' does not exist") from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"cannot read spec file '{path}': {exc}") from None
-    try:
-        raw = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(f"malformed TOML: {quote(exc, 160)}", path.name) from None
-    except RecursionError:
-        raise InputError(f"values are nested too deeply (at most {MAX_DEPTH} levels)",
-                         path.name) from None
+    raw, text = read_toml(path)
     return _validate(raw, path.parent.resolve(), path, text)
 
 
@@ -418,52 +405,15 @@ def spec_from_dict(raw: Mapping[str, Any], base_dir: str | Path = ".") -> Spec:
     """Validate a spec given as a dictionary (the parsed form of the TOML)."""
     if not isinstance(raw, Mapping):
         raise InputError("a spec is a table of keys", "spec")
-    deep = _too_deep(raw)
+    deep = too_deep(raw)
     if deep is not None:
         raise InputError(f"values are nested more than {MAX_DEPTH} levels deep", f"spec: {deep}")
     return _validate(dict(raw), Path(base_dir).resolve(), None, repr(sorted(raw.items(), key=str)))
 
 
-# Specs are small and flat; anything nested deeper than this is refused before validation
-# (the validator and the error messages walk values recursively).
-MAX_DEPTH = 100
-
-
-def _too_deep(raw: Any) -> str | None:
-    """The key path of the first value nested deeper than MAX_DEPTH, or None (no recursion)."""
-    stack: list[tuple[Any, int, str]] = [(raw, 0, "")]
-    while stack:
-        value, depth, where = stack.pop()
-        if depth > MAX_DEPTH:
-            return quote(where.split(".")[0].split("[")[0] or "spec")
-        if isinstance(value, Mapping):
-            stack += [(v, depth + 1, f"{where}.{k}" if where else str(k))
-                      for k, v in value.items()]
-        elif isinstance(value, list | tuple):
-            stack += [(v, depth + 1, f"{where}[{i + 1}]") for i, v in enumerate(value)]
-    return None
-
-
 def _validate(raw: dict[str, Any], base_dir: Path, path: Path | None, text: str) -> Spec:
-    deep = _too_deep(raw)
-    if deep is not None:
-        where = f"{path.name}" if path is not None else "spec"
-        raise InputError(f"values are nested more than {MAX_DEPTH} levels deep", f"{where}: {deep}")
     raw, notices = _renamed_keys(raw)
-    try:
-        body = SpecBody.model_validate(raw)
-    except ValidationError as exc:
-        # an unknown (often misspelled) key explains a "required" error beside it: say it first
-        errors = sorted(exc.errors(), key=lambda e: e["type"] != "extra_forbidden")
-        err = errors[0]
-        loc = tuple(err["loc"])
-        message, loc = _message(err, loc)
-        where = _loc_text(loc)
-        line = _locate(text, loc) if path is not None else None
-        prefix = f"{path.name}" if path is not None else "spec"
-        if line:
-            prefix += f" line {line}"
-        raise InputError(message, f"{prefix}: {where}" if where else prefix) from None
+    body = validate(SpecBody, raw, path, text)
     notices += [f"samples.{name}: a column name in backticks is read as before, but backticks "
                 "will stop working in a later release; write {column name} instead"
                 for name, text in body.samples.items() if "`" in text]
@@ -486,103 +436,3 @@ def _renamed_keys(raw: dict[str, Any]) -> tuple[dict[str, Any], list[str]]:
     return raw, notices
 
 
-def _message(err: Mapping[str, Any], loc: tuple[Any, ...]) -> tuple[str, tuple[Any, ...]]:
-    kind = err["type"]
-    if kind == "extra_forbidden":
-        key = loc[-1]
-        allowed = _fields_at(SpecBody, loc[:-1])
-        return (f"unknown key '{quote(key)}'{did_you_mean(str(key), allowed)}",
-                (*loc[:-1], quote(key, 40)))
-    if kind == "missing":
-        return "this key is required", loc
-    if kind == "literal_error":
-        expected = re.findall(r"'([^']*)'", str(err.get("ctx", {}).get("expected", "")))
-        return one_of(err.get("input"), expected), loc
-    if kind == "finite_number":
-        return f"{quote(err.get('input'))} is not a finite number", loc
-    msg = str(err["msg"])
-    if "input" in err and kind not in ("value_error",):
-        value = err.get("input")
-        if isinstance(value, str | int | float | bool):
-            msg += f" (got {quote(repr(value))})"
-    msg = re.sub(r"^(Value|Assertion) error, ", "", msg)
-    # validators that know a deeper key say so as "key.path: message"
-    m = re.match(r"^([A-Za-z_][\w.\[\]]*): (.*)$", msg)
-    if m and kind == "value_error":
-        inner = tuple(_split_loc(m.group(1)))
-        return m.group(2), tuple(loc) + inner if not inner or inner[0] != "equation" else inner
-    return msg, loc
-
-
-def _split_loc(text: str) -> list[Any]:
-    out: list[Any] = []
-    for part in text.split("."):
-        m = re.match(r"^(\w+)\[(\d+)\]$", part)
-        if m:
-            out += [m.group(1), int(m.group(2)) - 1]
-        else:
-            out.append(part)
-    return out
-
-
-def _fields_at(model: type[BaseModel], loc: tuple[Any, ...]) -> list[str]:
-    current: Any = model
-    for part in loc:
-        if isinstance(part, int):
-            continue
-        field = getattr(current, "model_fields", {}).get(part)
-        if field is None:
-            return []
-        ann = field.annotation
-        candidates = [ann, *get_args(ann)]
-        for arg in list(candidates):
-            candidates += list(get_args(arg))
-        current = next((c for c in candidates if isinstance(c, type) and issubclass(c, BaseModel)),
-                       None)
-        if current is None:
-            return []
-    return list(getattr(current, "model_fields", {}))
-
-
-def _loc_text(loc: tuple[Any, ...]) -> str:
-    out = ""
-    for part in loc:
-        if isinstance(part, int):
-            out += f"[{part + 1}]"
-        else:
-            out += ("." if out else "") + str(part)
-    return out
-
-
-def _locate(text: str, loc: tuple[Any, ...]) -> int | None:
-    """Best-effort line number (from 1) of a key path in TOML text."""
-    lines = text.splitlines()
-    names = [p for p in loc if not isinstance(p, int)]
-    index = next((p for p in loc if isinstance(p, int)), None)
-    # longest table header that is a prefix of the path
-    for depth in range(len(names), 0, -1):
-        header = ".".join(names[:depth])
-        pattern = re.compile(rf"^\s*\[\[?\s*{re.escape(header)}\s*\]\]?\s*(#.*)?$")
-        hits = [i for i, ln in enumerate(lines) if pattern.match(ln)]
-        if not hits:
-            continue
-        array = lines[hits[0]].lstrip().startswith("[[")
-        start = hits[index] if array and index is not None and index < len(hits) else hits[0]
-        rest = names[depth:]
-        if not rest:
-            return start + 1
-        key = re.compile(rf"^\s*{re.escape(str(rest[0]))}\s*=")
-        for j in range(start + 1, len(lines)):
-            if lines[j].lstrip().startswith("["):
-                break
-            if key.match(lines[j]):
-                return j + 1
-        return start + 1
-    if names:
-        key = re.compile(rf"^\s*{re.escape(str(names[0]))}\s*=")
-        for j, ln in enumerate(lines):
-            if ln.lstrip().startswith("["):
-                break
-            if key.match(ln):
-                return j + 1
-    return None

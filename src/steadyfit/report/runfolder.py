@@ -17,6 +17,7 @@ import os
 import shutil
 import sys
 import time
+from collections.abc import Callable, Mapping, Sequence
 from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
@@ -117,8 +118,6 @@ def write_run(findings: Findings, out_root: str | Path = "reports",
     """
     now = datetime.now(UTC)
     run_id = new_run_id(now)
-    root = Path(out_root) / findings.spec_stem
-    created_root = not root.exists()
     run: dict[str, Any] = {"id": run_id, "created": now.isoformat(timespec="seconds"),
                            "command": command if command is not None else list(sys.argv)}
     # everything is rendered before anything is written
@@ -147,7 +146,25 @@ def write_run(findings: Findings, out_root: str | Path = "reports",
     if findings.analysis is not None:
         files |= package_files(findings, run, [*files, "results.json",
                                                *(f"inputs/{p.name}" for p in copies)])
+    return write_folder(out_root, findings.spec_stem, run, files, copies,
+                        lambda r: to_record(findings, r), ("tables", "figures", "inputs"))
+
+
+def write_folder(out_root: str | Path, stem: str, run: dict[str, Any],
+                 files: Mapping[str, str | bytes], copies: Sequence[Path],
+                 record: Callable[[dict[str, Any]], dict[str, Any]],
+                 folders: Sequence[str] = ("inputs",)) -> Path:
+    """Write a run folder ``<out_root>/<stem>/<run id>/`` atomically and return its path.
+
+    ``files`` maps paths inside the folder to their content, ``copies`` are input files
+    copied into ``inputs/``, and ``record(run)`` gives ``results.json`` once ``run`` knows
+    the folder's name; ``folders`` are made even when empty.  Everything is written into a
+    locked temporary folder first and renamed into place at the end; on any failure (or
+    SIGTERM) nothing is left behind."""
     out = Path(out_root)
+    root = out / stem
+    created_root = not root.exists()
+    run_id = run["id"]
     try:
         out.mkdir(parents=True, exist_ok=True)
         remove_stale(out)
@@ -156,14 +173,14 @@ def write_run(findings: Findings, out_root: str | Path = "reports",
         raise InputError(f"cannot create the output folder '{out}': {exc.strerror or exc}",
                          "output folder") from None
     previous = _catch_sigterm()
-    tmp = out / PARTIAL / f"{findings.spec_stem}-{run_id}-{os.getpid()}"
+    tmp = out / PARTIAL / f"{stem}-{run_id}-{os.getpid()}"
     try:
         import fcntl
 
         tmp.mkdir()
         with (tmp / _LOCK).open("w") as lock:
             fcntl.flock(lock, fcntl.LOCK_EX | fcntl.LOCK_NB)
-            for sub in ("tables", "figures", "inputs"):
+            for sub in folders:
                 (tmp / sub).mkdir(parents=True)
             for name, content in files.items():
                 (tmp / name).parent.mkdir(parents=True, exist_ok=True)
@@ -179,8 +196,7 @@ def write_run(findings: Findings, out_root: str | Path = "reports",
                 raise InputError(f"the run folder '{target}' would lie outside '{out}'",
                                  "output folder")
             run["folder"] = target.name
-            record = to_record(findings, run)
-            (tmp / "results.json").write_text(json.dumps(record, indent=2, allow_nan=False)
+            (tmp / "results.json").write_text(json.dumps(record(run), indent=2, allow_nan=False)
                                               + "\n", encoding="utf-8")
             os.rename(tmp, target)  # still locked: no other run takes it for stale
         (target / _LOCK).unlink()
