@@ -62,7 +62,9 @@ def _parser() -> argparse.ArgumentParser:
                       help="also write the comparison as an HTML page to this file")
     comp.add_argument("--verdicts-only", action="store_true",
                       help="show only the verdicts that changed (and the count line)")
-    for sp in (run, check, demo, comp):
+    from .calibrate.commands import add_parsers
+
+    for sp in (run, check, demo, comp, *add_parsers(sub)):
         sp.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
                         help=argparse.SUPPRESS)
     return p
@@ -215,7 +217,11 @@ def main(argv: Sequence[str] | None = None) -> int:
         if args.command == "compare":
             return _compare(args.run_a, args.run_b, args.tolerance, args.html,
                             args.verdicts_only)
-        return _demo(args.out, args.quiet)
+        if args.command == "demo":
+            return _demo(args.out, args.quiet)
+        from .calibrate.commands import run_command
+
+        return run_command(args)
     except InputError as exc:
         if args.debug:
             raise

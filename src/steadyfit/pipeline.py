@@ -197,7 +197,7 @@ def estimate_panel(p: Plan, cell: PlannedPanel, settings: Settings) -> PanelFind
     return replace(found, notes=found.notes + tuple(notes))
 
 
-def _versions() -> dict[str, str]:
+def versions() -> dict[str, str]:
     out = {"python": platform.python_version()}
     for name in _VERSIONED:
         try:
@@ -269,7 +269,7 @@ def run(spec: Spec | str | Path) -> Findings:
         data_path=str(p.table.path),
         data_sha256=p.table.sha256,
         data_rows=p.table.file_rows if p.table.file_rows is not None else p.table.n_economies,
-        versions=_versions(),
+        versions=versions(),
     )
     by_cell = {(r.equation, r.sample): (quantities(r), unavailable(r)) for r in results}
     by_cell.update({(r.equation, r.sample): panel_quantities(r) for r in panels})

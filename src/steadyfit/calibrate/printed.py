@@ -55,6 +55,7 @@ class PrintedTable:
     bands: Mapping[str, tuple[float, float]] = field(
         default_factory=lambda: {"alpha": (0.25, 0.40), "beta": (0.20, 0.45)})
     level: float = 0.05
+    title: str = ""  # the paper and table, as the referee names them
 
 
 @dataclass(frozen=True)

@@ -10,8 +10,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
-
-import numpy as np
+from typing import Any
 
 from ..errors import InputError
 
@@ -167,8 +166,10 @@ def required_share(income_ratio_: float, saving_ratio: float, ngd_ratio: float =
 
 
 def required_share_grid(income_ratios: Sequence[float], saving_ratios: Sequence[float],
-                        ngd_ratio: float = 1.0) -> np.ndarray:
+                        ngd_ratio: float = 1.0) -> Any:
     """Required shares over a grid: one row per income ratio, one column per saving ratio;
-    NaN where no share in (0, 1) explains the pair."""
+    NaN where no share in (0, 1) explains the pair (a numpy array)."""
+    import numpy as np
+
     return np.array([[required_share(r, s, ngd_ratio).share for s in saving_ratios]
                      for r in income_ratios])
