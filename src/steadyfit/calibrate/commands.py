@@ -14,7 +14,7 @@ from typing import Any
 
 from ..errors import InputError
 
-COMMANDS = ("from-table", "ratios", "required-share", "transition")
+COMMANDS = ("from-table", "ratios", "required-share", "transition", "accounting")
 
 
 def add_parsers(sub: Any) -> list[argparse.ArgumentParser]:
@@ -66,7 +66,14 @@ def add_parsers(sub: Any) -> list[argparse.ArgumentParser]:
     trans.add_argument("--g", type=float, default=0.02, help="technology growth (default 0.02)")
     trans.add_argument("--delta", type=float, default=0.03, help="depreciation (default 0.03)")
     trans.add_argument("--years", type=float, default=200.0, help="horizon (default 200)")
-    out = [table, ratios, req, trans]
+    acc = sub.add_parser("accounting", help="development accounting: income per worker split "
+                                            "into capital, schooling and productivity")
+    acc.add_argument("file", type=Path, help="the accounting input as TOML (see the README)")
+    acc.add_argument("--years", type=int, nargs="+", help="years to account for (default: the "
+                                                          "input's years, else the last year)")
+    acc.add_argument("--alpha", type=float, help="the capital share (default: the input's, "
+                                                 "else 1/3)")
+    out = [table, ratios, req, trans, acc]
     for p in out:
         p.add_argument("--out", type=Path, default=Path("reports"),
                        help="root folder for run folders (default ./reports)")
@@ -83,6 +90,7 @@ def _numbers(text: str, key: str, sep: str) -> list[float]:
 
 def run_command(args: argparse.Namespace) -> int:
     from ..report.calibration import (
+        accounting_page,
         printed_page,
         ratios_page,
         render_page_text,
@@ -132,6 +140,24 @@ def run_command(args: argparse.Namespace) -> int:
         grid = required_share_grid(args.income_ratio, args.investment_ratio, args.ngd_ratio)
         page = required_page(pairs, args.income_ratio, args.investment_ratio, grid,
                              args.ngd_ratio)
+    elif args.command == "accounting":
+        from ..data import read_table
+        from .accounting import development_accounts
+        from .inputs import load_accounting
+
+        spec, data_path = load_accounting(args.file)
+        if not data_path.is_file():
+            raise InputError(f"data file '{data_path}' does not exist", "file")
+        frame = read_table(data_path)
+        c = spec.columns
+        accounts = development_accounts(
+            frame, id_column=spec.id, year=spec.year, output=c.output, capital=c.capital,
+            workers=c.workers, human_index=c.human_index, schooling_years=c.schooling_years,
+            labour_share=c.labour_share, alpha=args.alpha if args.alpha is not None else
+            spec.alpha, years=args.years or spec.years or None,
+            breaks=spec.schooling.breaks, returns=spec.schooling.returns)
+        page = accounting_page(accounts, spec.title)
+        inputs += [args.file, data_path]
     else:
         from .transition import Rates, transition
 

@@ -32,6 +32,7 @@ from pydantic import Field, StrictBool, model_validator
 from ..errors import InputError
 from ..spec import PlausibleSpec, Record
 from ..tomlinput import read_toml, validate
+from .accounting import SCHOOLING_BREAKS, SCHOOLING_RETURNS
 from .printed import PrintedTable
 
 
@@ -117,3 +118,52 @@ def printed_table_from_options(form: str, capital: Sequence[str], restricted: bo
             raise InputError(f"'{text}': the value must be a number", "--correlation") from None
     raw |= {k: v for k, v in rest.items() if v is not None}
     return validate(PrintedTableSpec, raw, None, "", "options").table()
+
+
+class AccountingColumns(Record):
+    output: str
+    capital: str
+    workers: str | None = None
+    human_index: str | None = None
+    schooling_years: str | None = None
+    labour_share: str | None = None
+
+    @model_validator(mode="after")
+    def _one_human(self) -> AccountingColumns:
+        if (self.human_index is None) == (self.schooling_years is None):
+            raise ValueError("give exactly one of human_index and schooling_years")
+        return self
+
+
+class SchoolingSpec(Record):
+    breaks: tuple[float, ...] = SCHOOLING_BREAKS
+    returns: tuple[float, ...] = SCHOOLING_RETURNS
+
+    @model_validator(mode="after")
+    def _shape(self) -> SchoolingSpec:
+        if len(self.returns) != len(self.breaks) + 1:
+            raise ValueError("returns: give one return more than breaks")
+        if list(self.breaks) != sorted(set(self.breaks)) or any(b <= 0 for b in self.breaks):
+            raise ValueError("breaks: positive years in increasing order")
+        return self
+
+
+class AccountingSpec(Record):
+    """Development accounting on an annual table (the keys of the README)."""
+
+    file: str
+    id: str
+    year: str
+    columns: AccountingColumns
+    years: tuple[int, ...] = ()
+    alpha: float = Field(1 / 3, gt=0, lt=1)
+    schooling: SchoolingSpec = SchoolingSpec()
+    title: str = ""
+
+
+def load_accounting(path: str | Path) -> tuple[AccountingSpec, Path]:
+    """The accounting input and the path of its data file (relative to the input's folder)."""
+    path = Path(path)
+    raw, text = read_toml(path, "accounting file")
+    spec = validate(AccountingSpec, raw, path, text, "accounting")
+    return spec, (path.parent / spec.file).resolve()

@@ -34,7 +34,7 @@ from .tables import all_tables
 
 # A copy of the data goes into the run folder when it is at most this large
 # (common practice, no source: keep run folders small enough to mail).
-_MAX_DATA_COPY = 20 * 1024 * 1024
+MAX_DATA_COPY = 20 * 1024 * 1024
 
 
 def new_run_id(now: datetime) -> str:
@@ -141,7 +141,7 @@ def write_run(findings: Findings, out_root: str | Path = "reports",
     prov = findings.provenance
     copies = [Path(prov.spec_path)] if prov.spec_path and Path(prov.spec_path).exists() else []
     data = Path(prov.data_path)
-    if data.exists() and data.stat().st_size <= _MAX_DATA_COPY:
+    if data.exists() and data.stat().st_size <= MAX_DATA_COPY:
         copies.append(data)
     if findings.analysis is not None:
         files |= package_files(findings, run, [*files, "results.json",
