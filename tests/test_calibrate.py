@@ -196,3 +196,16 @@ def test_growth_form_speed_from_a_table():
     assert lam.value == pytest.approx(-math.log(1 - 0.299) / 25)
     alpha = next(v for v in f.values if v.name == "alpha")
     assert alpha.value == pytest.approx(0.5 / (0.299 + 0.5))
+
+
+def test_unrestricted_growth_table_gives_shares_speed_and_the_restriction():
+    """Growth form, unrestricted: a = b_k/(theta + b_k) with theta = -b_0 (DOMAIN.md section
+    3), lambda from b_0, and the restriction b_k + b_n = 0 judged at both ends."""
+    f = implied_from_table(PrintedTable("growth", ("physical",), False,
+                                        {"ln_y0": -0.3, "ln_sk": 0.5, "ln_ngd": -0.6},
+                                        {"ln_y0": 0.05, "ln_sk": 0.1, "ln_ngd": 0.3}, span=25))
+    got = {v.name: v for v in f.values}
+    assert f.problem is None
+    assert got["alpha"].value == pytest.approx(0.5 / 0.8)
+    assert got["lam"].value == pytest.approx(-math.log(0.7) / 25)
+    assert f.restriction.total == pytest.approx(-0.1)

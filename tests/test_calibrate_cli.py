@@ -171,3 +171,33 @@ def test_accounting_on_the_pwt_extract(tmp_path):
     (tmp_path / "bad.toml").write_text(ACCOUNTING.replace('human_index = "hc"\n', ""))
     proc = steadyfit("accounting", "bad.toml", cwd=tmp_path)
     assert proc.returncode == 2 and "human_index" in proc.stderr
+
+
+def test_ratios_take_the_shares_of_an_estimation_run(tmp_path):
+    """The shares an estimation run implied (its results.json) feed the ratios unchanged."""
+    proc = steadyfit("demo", "--out", tmp_path / "d", "--quiet", cwd=tmp_path)
+    assert proc.returncode == 0, proc.stderr
+    run = Path(proc.stdout.strip())
+    run = run if run.is_absolute() else tmp_path / run
+    q = next(r for r in json.loads((run / "results.json").read_text())["results"]
+             if (r["equation"], r["sample"]) == ("with_schooling", "all"))["quantities"]
+    proc = steadyfit("ratios", "--from-run", run, "--equation", "with_schooling", "--sample",
+                     "all", "--economy", "A:0.2:0.01:0.1", "--economy", "B:0.1:0.02:0.05",
+                     "--quiet", cwd=tmp_path)
+    assert proc.returncode == 0, proc.stderr
+    rec = _result(tmp_path / proc.stdout.strip())["result"]
+    assert rec["alpha"] == q["alpha"] and rec["beta"] == q["beta"]
+    assert rec["g_delta"] == 0.05
+    proc = steadyfit("ratios", "--from-run", run, "--equation", "unconditional", "--sample",
+                     "all", "--economy", "A:0.2:0.01", "--economy", "B:0.1:0.02", cwd=tmp_path)
+    assert proc.returncode == 2 and "no ordinary alpha" in proc.stderr
+
+
+def test_figure_formats_follow_the_option(tmp_path):
+    proc = steadyfit("transition", "--alpha", "0.3", "--before", "0.1,0.01", "--after",
+                     "0.2,0.01", "--figure-formats", "svg", "pdf", "--quiet", cwd=tmp_path)
+    assert proc.returncode == 0, proc.stderr
+    folder = tmp_path / proc.stdout.strip()
+    assert (folder / "figures" / "transition.pdf").read_bytes().startswith(b"%PDF")
+    assert (folder / "figures" / "transition.svg").is_file()
+    assert "<svg" in (folder / "report.html").read_text()

@@ -43,7 +43,7 @@ RATE_VARIABLES = ("invest", "schooling", "workforce_growth")
 _NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_\-]{0,63}$")
 
 
-class _Record(BaseModel):
+class Record(BaseModel):
     # NaN and infinity are refused in every number; booleans are not numbers (strict below)
     model_config = ConfigDict(extra="forbid", frozen=True, allow_inf_nan=False)
 
@@ -60,7 +60,7 @@ class _Record(BaseModel):
         return data
 
 
-class ColumnMap(_Record):
+class ColumnMap(Record):
     """Model variable -> column of the data table."""
 
     income: str = Field(description="output per worker at the end of the span")
@@ -72,7 +72,7 @@ class ColumnMap(_Record):
     income_start: str | None = Field(None, description="output per worker at the start")
 
 
-class UnitMap(_Record):
+class UnitMap(Record):
     """Declared unit of each rate column."""
 
     invest: Unit | None = None
@@ -80,7 +80,7 @@ class UnitMap(_Record):
     workforce_growth: Unit | None = None
 
 
-class DataSpec(_Record):
+class DataSpec(Record):
     file: str
     id: str
     columns: ColumnMap
@@ -124,12 +124,12 @@ class DataSpec(_Record):
         return self
 
 
-class Assumptions(_Record):
+class Assumptions(Record):
     g_plus_delta: float = Field(0.05, gt=0, lt=1)
     span_years: float | None = Field(None, gt=0)
 
 
-class EquationSpec(_Record):
+class EquationSpec(Record):
     name: str
     form: str = "levels"
     capital: tuple[str, ...] = ("physical",)
@@ -152,7 +152,7 @@ class EquationSpec(_Record):
         return self
 
 
-class InferenceSpec(_Record):
+class InferenceSpec(Record):
     covariance: CovarianceName = "classical"
     cluster: str | None = None
     confidence: float = Field(0.95, gt=0.5, lt=1)
@@ -167,7 +167,7 @@ class InferenceSpec(_Record):
         return self
 
 
-class PlausibleSpec(_Record):
+class PlausibleSpec(Record):
     """Plausibility bands and test points for the implied shares (DOMAIN.md section 6)."""
 
     alpha: tuple[float, float] = (0.25, 0.40)
@@ -183,7 +183,7 @@ class PlausibleSpec(_Record):
         return v
 
 
-class PanelSpec(_Record):
+class PanelSpec(Record):
     """How annual data become a period panel, and which panel estimators run."""
 
     period_years: int = Field(5, ge=1, le=50)
@@ -218,11 +218,11 @@ class PanelSpec(_Record):
 PANEL_REGRESSOR_VARIABLES = ("invest", "schooling", "human_stock", "workforce_growth")
 
 
-class OutputSpec(_Record):
+class OutputSpec(Record):
     folder: str | None = None
 
 
-class ReportSpec(_Record):
+class ReportSpec(Record):
     """How results are shown: decimal places, significance marks in LaTeX tables, figures,
     and how LaTeX tables are laid out."""
 
@@ -237,7 +237,7 @@ class ReportSpec(_Record):
 _LABEL_TEXT = 80  # longest display label (characters)
 
 
-class LabelSpec(_Record):
+class LabelSpec(Record):
     """Display labels: what tables, figures and verdicts show instead of identifiers."""
 
     equations: dict[str, str] = Field(default_factory=dict)
@@ -255,7 +255,7 @@ class LabelSpec(_Record):
         return v
 
 
-class TargetSpec(_Record):
+class TargetSpec(Record):
     """A published value the run should reproduce, within a tolerance."""
 
     equation: str
@@ -271,7 +271,7 @@ class TargetSpec(_Record):
         return canonical(v)
 
 
-class SpecBody(_Record):
+class SpecBody(Record):
     title: str = "steadyfit run"
     data: DataSpec
     assumptions: Assumptions = Field(default_factory=Assumptions)

@@ -40,9 +40,15 @@ def add_parsers(sub: Any) -> list[argparse.ArgumentParser]:
 
     ratios = sub.add_parser("ratios", help="predicted steady-state income ratios, each "
                                            "factor's contribution and K/Y")
-    ratios.add_argument("--alpha", type=float, required=True, help="physical capital share")
+    ratios.add_argument("--alpha", type=float, help="physical capital share")
     ratios.add_argument("--beta", type=float, default=0.0, help="human capital share")
-    ratios.add_argument("--g-delta", type=float, default=0.05, help="g + delta (default 0.05)")
+    ratios.add_argument("--g-delta", type=float, default=None,
+                        help="g + delta (default 0.05, or the run's)")
+    ratios.add_argument("--from-run", type=Path, metavar="RUN_FOLDER",
+                        help="take alpha, beta and g + delta from an estimation run's "
+                             "--equation on --sample")
+    ratios.add_argument("--equation", help="with --from-run: the equation's name")
+    ratios.add_argument("--sample", help="with --from-run: the sample's name")
     ratios.add_argument("--economy", action="append", default=[], metavar="NAME:S_K:N[:S_H]",
                         help="an economy's rates as fractions (repeat, two or more)")
     ratios.add_argument("--reference", help="the economy the others are compared with "
@@ -74,6 +80,9 @@ def add_parsers(sub: Any) -> list[argparse.ArgumentParser]:
     acc.add_argument("--alpha", type=float, help="the capital share (default: the input's, "
                                                  "else 1/3)")
     out = [table, ratios, req, trans, acc]
+    for p in (trans, acc):
+        p.add_argument("--figure-formats", nargs="+", choices=("svg", "pdf"), default=["svg"],
+                       help="figure files to write (default svg; the HTML page inlines SVG)")
     for p in out:
         p.add_argument("--out", type=Path, default=Path("reports"),
                        help="root folder for run folders (default ./reports)")
@@ -130,7 +139,20 @@ def run_command(args: argparse.Namespace) -> int:
                 raise InputError(f"'{text}' is not NAME:S_K:N or NAME:S_K:N:S_H", "--economy")
             economies.append(Economy(name, values[0], values[1],
                                      values[2] if len(values) == 3 else None))
-        page = ratios_page(steady_state_ratios(args.alpha, args.beta, economies, args.g_delta,
+        alpha, beta, g_delta = args.alpha, args.beta, args.g_delta
+        if args.from_run is not None:
+            from .steady import shares_from_run
+
+            if args.alpha is not None:
+                raise InputError("give --alpha or --from-run, not both", "--alpha")
+            if not (args.equation and args.sample):
+                raise InputError("--from-run needs --equation and --sample", "--from-run")
+            alpha, beta, run_gd = shares_from_run(args.from_run, args.equation, args.sample)
+            g_delta = run_gd if g_delta is None else g_delta
+        elif alpha is None:
+            raise InputError("give --alpha (and --beta), or --from-run", "--alpha")
+        page = ratios_page(steady_state_ratios(alpha, beta, economies,
+                                               0.05 if g_delta is None else g_delta,
                                                args.reference))
     elif args.command == "required-share":
         from .steady import required_share, required_share_grid
@@ -156,7 +178,7 @@ def run_command(args: argparse.Namespace) -> int:
             labour_share=c.labour_share, alpha=args.alpha if args.alpha is not None else
             spec.alpha, years=args.years or spec.years or None,
             breaks=spec.schooling.breaks, returns=spec.schooling.returns)
-        page = accounting_page(accounts, spec.title)
+        page = accounting_page(accounts, spec.title, ["svg", *args.figure_formats])
         inputs += [args.file, data_path]
     else:
         from .transition import Rates, transition
@@ -170,8 +192,9 @@ def run_command(args: argparse.Namespace) -> int:
         page = transition_page(transition(args.alpha, args.beta,
                                           rates(args.before, "--before"),
                                           rates(args.after, "--after"), args.g, args.delta,
-                                          args.years))
-    folder = write_page(page, args.out, ["steadyfit", *sys.argv[1:]], inputs)
+                                          args.years), ["svg", *args.figure_formats])
+    formats = getattr(args, "figure_formats", ["svg"])
+    folder = write_page(page, args.out, ["steadyfit", *sys.argv[1:]], inputs, formats)
     if args.quiet:
         print(folder)
         return 0

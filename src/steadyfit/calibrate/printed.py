@@ -231,8 +231,8 @@ def implied_from_table(table: PrintedTable) -> PrintedFindings:
             raise InputError("this form has no unrestricted shares", "restricted")
         vmap = form.crosscheck.shares
         restriction = _restriction(form, c, s, r, table.level)
-        rates = form.crosscheck.shares.value(c)
-        total = float(np.sum(rates[: len(form.parameters.shares)]))
+        rates = form.crosscheck.shares.value(c)[: len(form.parameters.shares)]
+        total = float(np.sum(rates))
         problem = None if all(math.isfinite(x) and x > 0 for x in rates) and total < 1 else (
             f"no steady state: the investment slopes imply shares summing to {total:.3g}")
         caveats.append("the restriction is not imposed: the shares come from the investment "

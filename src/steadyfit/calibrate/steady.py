@@ -10,6 +10,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
+from pathlib import Path
 from typing import Any
 
 from ..errors import InputError
@@ -173,3 +174,23 @@ def required_share_grid(income_ratios: Sequence[float], saving_ratios: Sequence[
 
     return np.array([[required_share(r, s, ngd_ratio).share for s in saving_ratios]
                      for r in income_ratios])
+
+
+def shares_from_run(path: str | Path, equation: str, sample: str) -> tuple[float, float, float]:
+    """(alpha, beta, g + delta) an estimation run implied for one equation on one sample, read
+    from its run folder's results.json; beta is 0 for physical capital only."""
+    from ..compare import load_record
+
+    record, name = load_record(path)
+    cells = {(r["equation"], r["sample"]): r for r in record["results"]}
+    cell = cells.get((equation, sample))
+    if cell is None:
+        have = ", ".join(f"{e}/{s}" for e, s in cells)
+        raise InputError(f"run {name} has no equation '{equation}' on sample '{sample}'; it "
+                         f"has {have}", "--from-run")
+    q = cell["quantities"]
+    alpha = q.get("alpha")
+    if alpha is None:
+        raise InputError(f"{equation}/{sample} of run {name} implies no ordinary alpha"
+                         + (f": {cell['problem']}" if cell.get("problem") else ""), "--from-run")
+    return float(alpha), float(q.get("beta") or 0.0), float(record["settings"]["g_plus_delta"])

@@ -125,10 +125,10 @@ def ratios_page(r: SteadyStateRatios) -> Page:
     table = Table("ratios", f"Predicted steady-state income relative to {r.reference}", "economy",
                   (("income ratio",), ("log, from sₖ",), ("log, from sₕ",),
                    ("log, from n + g + δ",), ("log ratio",), ("K/Y",)), rows,
-                  (f"α = {r.alpha:g}, β = {r.beta:g}, g + δ = {r.g_delta:g}; the three log "
+                  (f"α = {r.alpha:.3g}, β = {r.beta:.3g}, g + δ = {r.g_delta:g}; the three log "
                    "contributions add up to the log ratio. K/Y = sₖ/(n + g + δ).",))
     widest = max(r.rows, key=lambda x: abs(x.log_ratio))
-    lead = (f"With α = {r.alpha:g} and β = {r.beta:g}, the widest predicted gap from "
+    lead = (f"With α = {r.alpha:.3g} and β = {r.beta:.3g}, the widest predicted gap from "
             f"{r.reference}: {widest.economy}'s steady-state income per worker is "
             f"{widest.ratio:.3g} times {r.reference}'s.",)
     return Page("ratios", "Steady-state income ratios", lead, (table,),
