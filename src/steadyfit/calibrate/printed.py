@@ -237,10 +237,16 @@ def implied_from_table(table: PrintedTable) -> PrintedFindings:
             f"no steady state: the investment slopes imply shares summing to {total:.3g}")
         caveats.append("the restriction is not imposed: the shares come from the investment "
                        "slopes alone; the slope on n + g + delta implies them a second time")
-    if np.isnan(r[np.triu_indices(len(c), 1)]).any():
+    pairs = r[np.triu_indices(len(c), 1)]
+    if np.isnan(pairs).any():
         caveats.append("covariances between slopes are not printed: each standard error is "
                        "given as the range over every unprinted correlation in [-1, 1]; the "
                        "larger end is the conservative one and sets the verdicts")
+        if not np.isnan(pairs).all() and len(c) > 2:
+            caveats.append("some correlations are printed and others not: a range that needs "
+                           "two or more unprinted correlations at once is an outer bound (not "
+                           "every combination makes a valid covariance matrix), so its ends "
+                           "can be wider than any valid matrix gives")
     vals = vmap.value(c)
     jac = np.atleast_2d(vmap.jacobian(c))
     for i, name in enumerate(vmap.names):
