@@ -83,7 +83,7 @@ def test_transition_reaches_the_analytic_steady_state():
     assert path.income[-1] / trend == pytest.approx(y, rel=1e-6)
     assert path.capital[-1] / trend == pytest.approx(k, rel=1e-6)
     assert path.human[-1] / trend == pytest.approx(h, rel=1e-6)
-    assert path.income[0] == pytest.approx(path.start_income, rel=1e-12)
+    assert math.log(path.income[0]) == pytest.approx(path.ln_start, rel=1e-12)
     assert path.growth[-1] == pytest.approx(0.02, abs=1e-6)
 
 
@@ -209,3 +209,25 @@ def test_unrestricted_growth_table_gives_shares_speed_and_the_restriction():
     assert got["alpha"].value == pytest.approx(0.5 / 0.8)
     assert got["lam"].value == pytest.approx(-math.log(0.7) / 25)
     assert f.restriction.total == pytest.approx(-0.1)
+
+
+def test_review_findings_on_printed_tables():
+    """A zero sum is not a rejection; a correlation of a slope the quantity does not use
+    leaves its range alone; printed correlations that cannot hold together are refused."""
+    f = implied_from_table(PrintedTable("levels", ("physical",), False,
+                                        {"ln_sk": 1.0, "ln_ngd": -1.0},
+                                        {"ln_sk": 0.2, "ln_ngd": 0.2}))
+    assert f.restriction.p_low == 1.0 and "not rejected" in f.restriction.verdict
+    slopes = {"ln_y0": -0.3, "ln_sk": 0.5, "ln_ngd": -0.2, "ln_sh": 0.2}
+    ses = {"ln_y0": 0.02, "ln_sk": 0.3, "ln_ngd": 0.1, "ln_sh": 0.1}
+    base = implied_from_table(PrintedTable("growth", ("physical", "human_rate"), False, slopes,
+                                           ses, span=25)).restriction
+    more = implied_from_table(PrintedTable("growth", ("physical", "human_rate"), False, slopes,
+                                           ses, {("ln_y0", "ln_sk"): 0.2}, span=25)).restriction
+    assert (more.se.low, more.se.high) == pytest.approx((base.se.low, base.se.high))
+    with pytest.raises(InputError, match="cannot hold together"):
+        implied_from_table(PrintedTable(
+            "levels", ("physical", "human_rate"), False,
+            {"ln_sk": 0.7, "ln_ngd": -1.7, "ln_sh": 0.7}, {"ln_sk": 0.1, "ln_ngd": 0.4,
+                                                          "ln_sh": 0.1},
+            {("ln_sk", "ln_ngd"): 0.9, ("ln_sk", "ln_sh"): 0.9, ("ln_ngd", "ln_sh"): -0.9}))

@@ -122,6 +122,19 @@ def test_ratios_required_share_and_transition(tmp_path):
       "--economy", "B:0.1:0.02"), "shares"),
     (("transition", "--alpha", "0.3", "--before", "0.1,x", "--after", "0.2,0.01"), "--before"),
     (("required-share", "--income-ratio", "-2", "--investment-ratio", "4"), "income ratio"),
+    # found by review: these crashed (exit 1) or hung before
+    (("ratios", "--alpha", "0.3", "--economy", "A:24:0.01", "--economy", "B:0.1:0.01"), "s_k"),
+    (("ratios", "--alpha", "0.3", "--economy", "A:0.2:inf", "--economy", "B:0.1:0.01"), "n ="),
+    (("ratios", "--alpha", "0.3", "--g-delta", "inf", "--economy", "A:0.2:0.01",
+      "--economy", "B:0.1:0.01"), "g + delta"),
+    (("transition", "--alpha", "0.3", "--before", "1e300,0.01", "--after", "0.2,0.01"),
+     "before"),
+    (("transition", "--alpha", "0.3", "--before", "0.1,0.01", "--after", "0.2,0.01",
+      "--years", "inf"), "years"),
+    (("transition", "--alpha", "0.3", "--before", "0.1,0.01", "--after", "0.2,0.01",
+      "--years", "1e-300"), "years"),
+    (("from-table", "--slope", "ln_sk_less_ln_ngd=1,0.1", "--slope",
+      "ln_sk_less_ln_ngd=1.2,0.1"), "twice"),
 ])
 def test_calculator_refusals(tmp_path, args, words):
     proc = steadyfit(*args, cwd=tmp_path)
@@ -201,3 +214,25 @@ def test_figure_formats_follow_the_option(tmp_path):
     assert (folder / "figures" / "transition.pdf").read_bytes().startswith(b"%PDF")
     assert (folder / "figures" / "transition.svg").is_file()
     assert "<svg" in (folder / "report.html").read_text()
+
+
+def test_shares_near_one_do_not_overflow(tmp_path):
+    """A share near 1 gives an enormous but finite-or-unbounded ratio, never a crash."""
+    proc = steadyfit("ratios", "--alpha", "0.995", "--economy", "B:0.01:0.03", "--economy",
+                     "A:0.3:0.01", "--quiet", cwd=tmp_path)
+    assert proc.returncode == 0, proc.stderr
+    proc = steadyfit("transition", "--alpha", "0.999", "--before", "0.1,0.01", "--after",
+                     "0.2,0.01", "--quiet", cwd=tmp_path)
+    assert proc.returncode == 0, proc.stderr
+    rec = _result(tmp_path / proc.stdout.strip())["result"]
+    assert rec["half_life"] is None and "not closed" in rec["half_life_reason"]
+
+
+def test_accounting_refuses_a_text_year_column(tmp_path):
+    (tmp_path / "d.csv").write_text("e,t,Y,K,L,h\nA,x,1,2,3,1.5\nB,y,2,3,4,1.6\n")
+    (tmp_path / "a.toml").write_text('file = "d.csv"\nid = "e"\nyear = "t"\n[columns]\n'
+                                     'output = "Y"\ncapital = "K"\nworkers = "L"\n'
+                                     'human_index = "h"\n')
+    proc = steadyfit("accounting", "a.toml", cwd=tmp_path)
+    assert proc.returncode == 2 and "column 't'" in proc.stderr
+    assert not (tmp_path / "reports").exists()

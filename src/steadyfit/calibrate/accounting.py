@@ -36,6 +36,9 @@ def human_capital(years: np.ndarray, breaks: Sequence[float] = SCHOOLING_BREAKS,
     if len(returns) != len(breaks) + 1 or list(breaks) != sorted(breaks):
         raise InputError("give one return more than breaks, breaks in increasing order",
                          "schooling returns")
+    if any(not (math.isfinite(r) and 0 <= r < 1) for r in returns):
+        raise InputError("returns to a year of schooling are fractions in [0, 1)",
+                         "schooling returns")
     u = np.asarray(years, dtype=float)
     phi = np.zeros_like(u)
     lower = 0.0
@@ -108,8 +111,14 @@ def development_accounts(frame: pd.DataFrame, *, id_column: str, year: str, outp
     if frame.duplicated([id_column, year]).any():
         e, y = frame.loc[frame.duplicated([id_column, year]), [id_column, year]].iloc[0]
         raise InputError(f"economy '{e}' has two rows for year {y}", f"column '{year}'")
-    available = sorted(pd.to_numeric(frame[year], errors="coerce").dropna().astype(int).unique())
-    chosen = list(years) if years else available[-1:]
+    stamps = pd.to_numeric(frame[year], errors="coerce").dropna()
+    if stamps.empty:
+        raise InputError("holds no year (whole numbers)", f"column '{year}'")
+    if (stamps != stamps.round()).any():
+        raise InputError(f"holds {stamps[stamps != stamps.round()].iloc[0]:g}, not a whole year",
+                         f"column '{year}'")
+    available = sorted(stamps.astype(int).unique())
+    chosen = list(dict.fromkeys(years)) if years else available[-1:]
     out = []
     for y in chosen:
         if y not in available:
@@ -152,13 +161,18 @@ def _one_year(rows: pd.DataFrame, year: int, cols: dict[str, str | None], alpha:
     share = math.nan
     if cols["labour_share"]:
         ls = values("labour_share")[keep]
+        bad = np.isfinite(ls) & ((ls <= 0) | (ls >= 1))
+        if bad.any():
+            raise InputError(f"economy '{names[np.flatnonzero(bad)[0]]}' has the labour share "
+                             f"{ls[bad][0]:g} in {year}: give it as a fraction between 0 and 1",
+                             f"column '{cols['labour_share']}'")
         ls = ls[np.isfinite(ls)]
         share = float(np.mean(1 - ls)) if len(ls) else math.nan
     reason = None
     var = pct = math.nan
     if len(names) < 2:
         reason = f"{len(names)} economy with every value in {year}: no dispersion to account for"
-    elif np.var(ln_y) == 0:
+    elif np.ptp(ln_y) < 1e-9:  # equal up to rounding
         reason = f"income per worker is the same in every economy in {year}"
     else:
         var, pct = _success(ln_y, capital_term + ln_h)

@@ -103,6 +103,8 @@ def printed_table_from_options(form: str, capital: Sequence[str], restricted: bo
         parts = numbers.split(",")
         if not name or len(parts) != 2:
             raise InputError(f"'{text}' is not name=coef,se", "--slope")
+        if name.strip() in raw["slopes"]:
+            raise InputError(f"the slope '{name.strip()}' is given twice", "--slope")
         try:
             raw["slopes"][name.strip()] = {"coef": float(parts[0]), "se": float(parts[1])}
         except ValueError:
@@ -145,6 +147,8 @@ class SchoolingSpec(Record):
             raise ValueError("returns: give one return more than breaks")
         if list(self.breaks) != sorted(set(self.breaks)) or any(b <= 0 for b in self.breaks):
             raise ValueError("breaks: positive years in increasing order")
+        if any(not 0 <= r < 1 for r in self.returns):
+            raise ValueError("returns: fractions in [0, 1) (0.1, not 10)")
         return self
 
 
@@ -155,7 +159,7 @@ class AccountingSpec(Record):
     id: str
     year: str
     columns: AccountingColumns
-    years: tuple[int, ...] = ()
+    years: tuple[int, ...] = Field((), max_length=50)
     alpha: float = Field(1 / 3, gt=0, lt=1)
     schooling: SchoolingSpec = SchoolingSpec()
     title: str = ""

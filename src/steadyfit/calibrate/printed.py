@@ -144,11 +144,24 @@ def _read(table: PrintedTable, form: ModelForm) -> tuple[np.ndarray, np.ndarray,
             if n not in names:
                 raise InputError(f"'{n}' is not a slope of this form{did_you_mean(n, names)}",
                                  "correlations")
-        if a == b or not -1 <= v <= 1:
-            raise InputError(f"a correlation of two different slopes lies in [-1, 1], not {v:g}",
+        if a == b:
+            raise InputError(f"'{a}' is paired with itself; a correlation pairs two slopes",
+                             "correlations")
+        if not -1 <= v <= 1:
+            raise InputError(f"a correlation lies in [-1, 1], not {v:g}",
                              f"correlations.{a}.{b}")
         i, j = names.index(a), names.index(b)
         r[i, j] = r[j, i] = v
+    # printed correlations that cannot hold together: a fully printed block is no correlation
+    # matrix (smallest eigenvalue below zero, beyond rounding)
+    for size in range(3, len(names) + 1):
+        for block in itertools.combinations(range(len(names)), size):
+            sub = r[np.ix_(block, block)]
+            if not np.isnan(sub).any() and np.linalg.eigvalsh(sub)[0] < -1e-9:
+                raise InputError("the printed correlations of "
+                                 + ", ".join(names[k] for k in block)
+                                 + " cannot hold together (no covariance matrix has them)",
+                                 "correlations")
     return c, s, r
 
 
@@ -162,7 +175,9 @@ def spread(gradient: np.ndarray, se: np.ndarray, corr: np.ndarray) -> Spread:
         r = np.nan_to_num(corr, nan=0.0)
         sd = math.sqrt(max(float(v @ r @ v), 0.0))
         return Spread(sd, sd)
-    if all(math.isnan(corr[i, j]) for i, j in itertools.combinations(range(len(v)), 2)):
+    relevant = [(i, j) for i, j in itertools.combinations(range(len(v)), 2)
+                if v[i] != 0 and v[j] != 0]
+    if all(math.isnan(corr[i, j]) for i, j in relevant):  # slopes with no weight do not count
         a = np.abs(v)
         return Spread(max(0.0, 2 * float(a.max()) - float(a.sum())), float(a.sum()))
     ends = []
@@ -191,7 +206,8 @@ def _restriction(form: ModelForm, c: np.ndarray, s: np.ndarray, r: np.ndarray, l
     w = np.array(form.restriction)
     total = float(w @ c)
     sd = spread(w, s, r)
-    ps = [float(2 * ndtr(-abs(total) / e)) if e > 0 else 0.0 for e in (sd.low, sd.high)]
+    ps = [float(2 * ndtr(-abs(total) / e)) if e > 0 else (1.0 if total == 0 else 0.0)
+          for e in (sd.low, sd.high)]
     if sd.low == 0 and sd.high == 0:
         verdict = "not available: the standard error of the sum is zero"
     elif ps[0] < level and ps[1] < level:
@@ -233,8 +249,10 @@ def implied_from_table(table: PrintedTable) -> PrintedFindings:
         restriction = _restriction(form, c, s, r, table.level)
         rates = form.crosscheck.shares.value(c)[: len(form.parameters.shares)]
         total = float(np.sum(rates))
-        problem = None if all(math.isfinite(x) and x > 0 for x in rates) and total < 1 else (
-            f"no steady state: the investment slopes imply shares summing to {total:.3g}")
+        problem = None if all(math.isfinite(x) for x in rates) and total < 1 else (
+            f"no steady state: the investment slopes imply shares summing to {total:.3g}"
+            if math.isfinite(total) else "no steady state: the investment slopes imply no "
+            "finite shares")
         caveats.append("the restriction is not imposed: the shares come from the investment "
                        "slopes alone; the slope on n + g + delta implies them a second time")
     pairs = r[np.triu_indices(len(c), 1)]
@@ -269,7 +287,9 @@ def _plausibility(table: PrintedTable, values: list[ImpliedValue], problem: str 
     out = []
     if problem is not None:
         out.append(f"{problem}: the printed slopes imply non-diminishing returns to the "
-                   "accumulable factors (the AK limit); no ordinary shares follow")
+                   "accumulable factors (the AK limit); no ordinary shares follow"
+                   if problem.startswith("no steady state") else
+                   f"{problem}; no ordinary shares follow")
     got = {v.name: v for v in values}
     for name in ("alpha", "beta"):
         v = got.get(name)
@@ -291,10 +311,11 @@ def _plausibility(table: PrintedTable, values: list[ImpliedValue], problem: str 
                    "the shares leave no convergence at the sample's mean n + g + delta")
         lam_est = got.get("lam")
         if lam_est is not None and math.isfinite(lam_est.value):
-            out.append(f"the slope on initial income gives {lam_est.value:.4f} a year: "
-                       + ("both within the other's conservative interval" if
-                          lam_est.low <= lam <= lam_est.high else
-                          "the two speeds disagree beyond the printed uncertainty"))
+            out.append(f"the slope on initial income gives {lam_est.value:.4f} a year; the "
+                       "speed the shares imply lies "
+                       + ("inside" if lam_est.low <= lam <= lam_est.high else "outside")
+                       + " its conservative interval (the implied speed's own uncertainty "
+                       "is not counted)")
     if ngd is not None and table.s_k is not None:
         ky = capital_output(table.s_k, ngd, 0.0)
         lo, hi = CAPITAL_OUTPUT_RANGE

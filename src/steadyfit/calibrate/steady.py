@@ -29,9 +29,34 @@ def half_life(lam: float) -> float:
 
 
 def _no_steady_state(alpha: float, beta: float) -> None:
-    if not (alpha >= 0 and beta >= 0 and alpha + beta < 1):
+    if not (math.isfinite(alpha) and math.isfinite(beta) and alpha >= 0 and beta >= 0
+            and alpha + beta < 1):
         raise InputError(f"alpha + beta = {alpha + beta:.4g}: shares must be non-negative and "
                          "sum to less than 1 for a steady state to exist", "shares")
+
+
+# Rates are fractions: an investment rate in (0, 1], workforce growth within +-20% a year
+# (the bounds of the data checks; common practice, no source).
+MAX_WORKFORCE_GROWTH = 0.2
+
+
+def check_rates(where: str, s_k: float, n: float, s_h: float | None, g_delta: float) -> None:
+    """Refuse rates that are not finite fractions in range (a rate in percent among them)."""
+    for name, v in (("s_k", s_k), ("s_h", s_h)):
+        if v is not None and not (math.isfinite(v) and 0 < v <= 1):
+            raise InputError(f"{name} = {v:g} must be a fraction in (0, 1] (0.24, not 24)", where)
+    if not (math.isfinite(n) and abs(n) <= MAX_WORKFORCE_GROWTH):
+        raise InputError(f"n = {n:g} must be a fraction between -{MAX_WORKFORCE_GROWTH:g} and "
+                         f"{MAX_WORKFORCE_GROWTH:g} (0.02, not 2)", where)
+    if not (math.isfinite(g_delta) and 0 <= g_delta <= 1):
+        raise InputError(f"g + delta = {g_delta:g} must be a fraction in [0, 1]", "g + delta")
+    if not n + g_delta > 0:
+        raise InputError(f"n + g + delta = {n + g_delta:g} must be positive", where)
+
+
+def _exp(x: float) -> float:
+    """exp, infinite beyond the float range (a ratio too large to write)."""
+    return math.exp(x) if x < 709 else math.inf
 
 
 def income_ratio(alpha: float, beta: float, saving_ratio: float,
@@ -63,13 +88,8 @@ class Economy:
     s_h: float | None = None
 
     def check(self, human: bool, g_delta: float) -> None:
-        where = f"economy '{self.name}'"
-        if not self.s_k > 0:
-            raise InputError(f"s_k must be positive, not {self.s_k:g}", where)
-        if human and (self.s_h is None or not self.s_h > 0):
-            raise InputError("s_h must be given and positive when beta is not 0", where)
-        if not self.n + g_delta > 0:
-            raise InputError(f"n + g + delta = {self.n + g_delta:g} must be positive", where)
+        check_rates(f"economy '{self.name}'", self.s_k, self.n, self.s_h if human else None,
+                    g_delta)
 
 
 @dataclass(frozen=True)
@@ -125,7 +145,7 @@ def steady_state_ratios(alpha: float, beta: float, economies: Sequence[Economy],
         h = beta / d * math.log(e.s_h / base.s_h) if human else 0.0  # type: ignore[operator]
         n = -(alpha + beta) / d * math.log((e.n + g_delta) / (base.n + g_delta))
         total = k + h + n
-        rows.append(RatioRow(e.name, math.exp(total), total, k, h, n,
+        rows.append(RatioRow(e.name, _exp(total), total, k, h, n,
                              capital_output(e.s_k, e.n, g_delta)))
     return SteadyStateRatios(alpha, beta, g_delta, base.name, tuple(rows))
 
@@ -156,10 +176,12 @@ def required_share(income_ratio_: float, saving_ratio: float, ngd_ratio: float =
     gap = math.log(income_ratio_)
     if drive == 0:
         return RequiredShare(income_ratio_, saving_ratio, ngd_ratio, math.nan,
-                             "equal investment and n + g + delta predict equal incomes, "
-                             "whatever the share")
+                             "the investment ratio times the n + g + delta ratio is 1, so the "
+                             "model predicts equal incomes whatever the share")
     x = gap / drive
-    if x <= 0:
+    if x == 0:
+        return RequiredShare(income_ratio_, saving_ratio, ngd_ratio, 0.0)
+    if x < 0:
         return RequiredShare(income_ratio_, saving_ratio, ngd_ratio, math.nan,
                              "the income gap runs the other way from the investment gap: "
                              "no positive share explains it")

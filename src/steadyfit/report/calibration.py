@@ -156,7 +156,9 @@ def required_page(single: Sequence[RequiredShare], income: Sequence[float],
     for s in single:
         if math.isfinite(s.share):
             lead.append(f"An income ratio of {s.income_ratio:g} from an investment ratio of "
-                        f"{s.saving_ratio:g} needs a share of {s.share:.3f}.")
+                        f"{s.saving_ratio:g}"
+                        + (f" (n + g + δ ratio {s.ngd_ratio:g})" if s.ngd_ratio != 1 else "")
+                        + f" needs a share of {s.share:.3f}.")
         else:
             lead.append(f"An income ratio of {s.income_ratio:g} from an investment ratio of "
                         f"{s.saving_ratio:g}: no share, {s.reason}.")
@@ -206,8 +208,8 @@ def transition_figure(p: TransitionPath, formats: Sequence[str] = ("svg",)) -> F
 
     t = p.years
     ly = np.log(p.income)
-    old = math.log(p.start_income) + p.g * t
-    new = math.log(p.end_income) + p.g * t
+    old = p.ln_start + p.g * t
+    new = p.ln_end + p.g * t
     growth = p.growth * 100
     panels = [Panel(limits(t), limits(ly, old, new), "years after the change",
                     "log income per worker", "Income against the two steady-state paths"),
@@ -262,10 +264,12 @@ def accounting_page(acc: DevelopmentAccounts, title: str = "",
         if y.reason is not None:
             lead.append(f"{y.year}: the success measures are not available: {y.reason}.")
             continue
-        lead.append(f"{y.year}, {len(y.economies)} economies: measured capital and schooling "
-                    f"account for {y.variance_share:.0%} of the variance of log income per "
-                    f"worker and {y.percentile_share:.0%} of its 90/10 ratio; productivity "
-                    "does the rest.")
+        lead.append(f"{y.year}, {len(y.economies)} economies: income per worker from "
+                    "measured capital and schooling alone has "
+                    f"{y.variance_share:.0%} of the variance of log income per worker, and "
+                    f"its 90/10 ratio is {y.percentile_share:.0%} of income's; the rest of the "
+                    "dispersion goes with productivity (and, in the variance, with its "
+                    "covariance with the factors).")
         if math.isfinite(y.capital_share_measured):
             gap = acc.alpha - y.capital_share_measured
             lead.append(f"{y.year}: national accounts put the capital share at "
