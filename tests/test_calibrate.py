@@ -231,3 +231,18 @@ def test_review_findings_on_printed_tables():
             {"ln_sk": 0.7, "ln_ngd": -1.7, "ln_sh": 0.7}, {"ln_sk": 0.1, "ln_ngd": 0.4,
                                                           "ln_sh": 0.1},
             {("ln_sk", "ln_ngd"): 0.9, ("ln_sk", "ln_sh"): 0.9, ("ln_ngd", "ln_sh"): -0.9}))
+
+
+def test_point_tests_at_both_ends():
+    """MRW (1992) Table II restricted pair: alpha = 1/3 is not rejected at either end of the
+    standard-error range; beta = 1/3 only at the small end (p = 2 Phi(-|b - 1/3| / se))."""
+    f = implied_from_table(PrintedTable(
+        "levels", ("physical", "human_rate"), True, {RESTRICTED_K: 0.73, RESTRICTED_H: 0.67},
+        {RESTRICTED_K: 0.12, RESTRICTED_H: 0.07}))
+    alpha = next(c for c in f.checks if c.startswith("z test of alpha"))
+    beta = next(c for c in f.checks if c.startswith("z test of beta"))
+    assert "not rejected whatever" in alpha
+    assert "only when the standard error is at its small end" in beta
+    b = next(v for v in f.values if v.name == "beta")
+    from scipy.stats import norm
+    assert f"{2 * norm.sf(abs(b.value - 1 / 3) / b.se.high):.3g}" in beta

@@ -37,6 +37,8 @@ def add_parsers(sub: Any) -> list[argparse.ArgumentParser]:
     table.add_argument("--mean-investment", type=float,
                        help="the sample's mean investment rate s_k (fraction)")
     table.add_argument("--title", default="", help="the paper and table, for the report")
+    table.add_argument("--confidence", type=float, help="interval coverage (default 0.95)")
+    table.add_argument("--level", type=float, help="test level (default 0.05)")
 
     ratios = sub.add_parser("ratios", help="predicted steady-state income ratios, each "
                                            "factor's contribution and K/Y")
@@ -126,7 +128,7 @@ def run_command(args: argparse.Namespace) -> int:
             table = printed_table_from_options(
                 args.form, args.capital, not args.unrestricted, args.slope, args.correlation,
                 span=args.span, mean_ngd=args.mean_ngd, mean_investment=args.mean_investment,
-                title=args.title)
+                title=args.title, confidence=args.confidence, level=args.level)
         page = printed_page(implied_from_table(table))
     elif args.command == "ratios":
         from .steady import Economy, steady_state_ratios

@@ -81,7 +81,7 @@ class PrintedTableSpec(Record):
             {(c.slopes[0], c.slopes[1]): c.value for c in self.correlation},
             self.span, self.mean_ngd, self.mean_investment, self.confidence,
             {"alpha": self.plausible.alpha, "beta": self.plausible.beta}, self.level,
-            self.title)
+            self.title, {"alpha": self.plausible.alpha_point, "beta": self.plausible.beta_point})
 
 
 def load_printed_table(path: str | Path) -> PrintedTable:
@@ -119,7 +119,14 @@ def printed_table_from_options(form: str, capital: Sequence[str], restricted: bo
         except ValueError:
             raise InputError(f"'{text}': the value must be a number", "--correlation") from None
     raw |= {k: v for k, v in rest.items() if v is not None}
-    return validate(PrintedTableSpec, raw, None, "", "options").table()
+    try:
+        return validate(PrintedTableSpec, raw, None, "", "options").table()
+    except InputError as exc:  # name the option, not the TOML key behind it
+        key, _, rest = (exc.where or "").removeprefix("options: ").partition(".")
+        option = {"slopes": "--slope", "correlation": "--correlation"}.get(
+            key, "--" + key.replace("_", "-"))
+        raise InputError(exc.detail, (f"{option} {rest}" if rest else option) if key
+                         else exc.where) from None
 
 
 class AccountingColumns(Record):

@@ -56,6 +56,8 @@ class PrintedTable:
         default_factory=lambda: {"alpha": (0.25, 0.40), "beta": (0.20, 0.45)})
     level: float = 0.05
     title: str = ""  # the paper and table, as the referee names them
+    points: Mapping[str, float] = field(
+        default_factory=lambda: {"alpha": 1 / 3, "beta": 1 / 3})  # values each share is tested at
 
 
 @dataclass(frozen=True)
@@ -300,6 +302,20 @@ def _plausibility(table: PrintedTable, values: list[ImpliedValue], problem: str 
                    f"[{v.low:.3f}, {v.high:.3f}] is {_where(v.band_status)} the band "
                    f"[{lo:g}, {hi:g}]" + ("" if v.band_status == v.band_status_narrow else
                                            f" (at the small end: {_where(v.band_status_narrow)})"))
+    for name, point in table.points.items():
+        v = got.get(name)
+        if v is None or not math.isfinite(v.value):
+            continue
+        ps = [float(2 * ndtr(-abs(v.value - point) / e)) if e > 0 else
+              (1.0 if v.value == point else 0.0) for e in (v.se.low, v.se.high)]
+        rejected = [p < table.level for p in ps]
+        whatever = "" if v.se.known else " whatever the unprinted correlations"
+        verdict = (f"rejected{whatever}" if all(rejected) else
+                   f"not rejected{whatever}" if not any(rejected) else
+                   "rejected only when the standard error is at its small end")
+        ends = f"p = {ps[1]:.3g}" if v.se.known else f"p from {ps[0]:.3g} to {ps[1]:.3g}"
+        out.append(f"z test of {name} = {point:.4g}: {verdict} at the {table.level:g} level "
+                   f"({ends})")
     a, b = got.get("alpha"), got.get("beta")
     ngd = table.n_g_delta
     if ngd is not None and a is not None and math.isfinite(a.value):
