@@ -203,13 +203,19 @@ def _value(name: str, value: float, gradient: np.ndarray, s: np.ndarray, r: np.n
                         band_status(*narrow, band) if band else None)
 
 
+def _p_values(distance: float, sd: Spread) -> list[float]:
+    """Two-sided normal p-values of ``distance`` at the small and the large standard error
+    (a zero standard error: 1 when the distance is 0, else 0)."""
+    return [float(2 * ndtr(-abs(distance) / e)) if e > 0 else (1.0 if distance == 0 else 0.0)
+            for e in (sd.low, sd.high)]
+
+
 def _restriction(form: ModelForm, c: np.ndarray, s: np.ndarray, r: np.ndarray, level: float
                  ) -> PrintedRestriction:
     w = np.array(form.restriction)
     total = float(w @ c)
     sd = spread(w, s, r)
-    ps = [float(2 * ndtr(-abs(total) / e)) if e > 0 else (1.0 if total == 0 else 0.0)
-          for e in (sd.low, sd.high)]
+    ps = _p_values(total, sd)
     if sd.low == 0 and sd.high == 0:
         verdict = "not available: the standard error of the sum is zero"
     elif ps[0] < level and ps[1] < level:
@@ -306,8 +312,7 @@ def _plausibility(table: PrintedTable, values: list[ImpliedValue], problem: str 
         v = got.get(name)
         if v is None or not math.isfinite(v.value):
             continue
-        ps = [float(2 * ndtr(-abs(v.value - point) / e)) if e > 0 else
-              (1.0 if v.value == point else 0.0) for e in (v.se.low, v.se.high)]
+        ps = _p_values(v.value - point, v.se)
         rejected = [p < table.level for p in ps]
         whatever = "" if v.se.known else " whatever the unprinted correlations"
         verdict = (f"rejected{whatever}" if all(rejected) else
