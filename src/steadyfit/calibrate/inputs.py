@@ -122,10 +122,10 @@ def printed_table_from_options(form: str, capital: Sequence[str], restricted: bo
     try:
         return validate(PrintedTableSpec, raw, None, "", "options").table()
     except InputError as exc:  # name the option, not the TOML key behind it
-        key, _, rest = (exc.where or "").removeprefix("options: ").partition(".")
+        key, _, inner = (exc.where or "").removeprefix("options: ").partition(".")
         option = {"slopes": "--slope", "correlation": "--correlation"}.get(
             key, "--" + key.replace("_", "-"))
-        raise InputError(exc.detail, (f"{option} {rest}" if rest else option) if key
+        raise InputError(exc.detail, (f"{option} {inner}" if inner else option) if key
                          else exc.where) from None
 
 
