@@ -172,6 +172,18 @@ def test_ak_limit_gives_no_shares_and_says_so():
     assert any("AK" in c for c in f.checks)
 
 
+def test_a_negative_share_is_said_to_contradict_the_model():
+    """A negative slope on schooling gives beta = c_h / (1 + c_k + c_h) < 0 (DOMAIN.md
+    section 2): shown as the number it is, with a sentence that no share can be negative."""
+    f = implied_from_table(PrintedTable("levels", ("physical", "human_rate"), True,
+                                        {RESTRICTED_K: 0.9, RESTRICTED_H: -0.2},
+                                        {RESTRICTED_K: 0.1, RESTRICTED_H: 0.1}))
+    beta = next(v for v in f.values if v.name == "beta")
+    assert beta.value == pytest.approx(-0.2 / 1.7)
+    assert any(c.startswith("beta = -0.118 is negative") for c in f.checks)
+    assert not any("alpha" in c and "negative" in c for c in f.checks)
+
+
 def test_printed_table_refusals_name_the_key():
     with pytest.raises(InputError, match="ln_sk_less_ln_ngd"):
         implied_from_table(PrintedTable("levels", ("physical",), True, {"ln_sk": 1.0},

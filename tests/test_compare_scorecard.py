@@ -218,6 +218,10 @@ def _outcomes(f):
             if v.band is not None:
                 out[(r.equation, r.sample, f"{v.name} against its band")] = (
                     v.band_status or "not available")
+            if v.anchor is not None:
+                out[(r.equation, r.sample, f"{v.name} against the measured capital share")] = {
+                    True: "differ", False: "do not differ",
+                    None: "not available"}[v.anchor.test.rejects(level)]
     for c in f.consistency:
         out[(f"{c.levels_equation} vs {c.growth_equation}", c.sample,
              f"{c.quantity}, levels against growth")] = {

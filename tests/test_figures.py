@@ -68,6 +68,7 @@ def many(demo_folder, tmp_path_factory):
         "secondary_enrolment": rng.uniform(1, 12, rows),
         "schooling_index": rng.uniform(1, 20, rows),
         "workforce_growth": rng.uniform(0.2, 3.5, rows),
+        "labour_share": rng.uniform(50, 75, rows),
     }).to_csv(folder / "many.csv", index=False)
     body = tomllib.loads((demo_folder / "demo.toml").read_text(encoding="utf-8"))
     body["data"]["file"] = str(folder / "many.csv")

@@ -30,6 +30,8 @@ _EXPORTS = {
     "Estimate": ("steadyfit.findings", "Estimate"),
     "TestResult": ("steadyfit.findings", "TestResult"),
     "ShareVerdict": ("steadyfit.findings", "ShareVerdict"),
+    "MeasuredShare": ("steadyfit.findings", "MeasuredShare"),
+    "AnchorCheck": ("steadyfit.findings", "AnchorCheck"),
     "compare_runs": ("steadyfit.compare", "compare_runs"),
     "render_text": ("steadyfit.report.text", "render_text"),
     "all_tables": ("steadyfit.report.tables", "all_tables"),

@@ -26,7 +26,7 @@ from .design import Design, _matrix
 from .equations import Regressor, term_label
 from .filters import parse_filter, referenced_columns
 from .labels import MINUS, SYMBOLS
-from .spec import RATE_VARIABLES, ColumnMap, Spec
+from .spec import UNIT_VARIABLES, ColumnMap, Spec
 
 if TYPE_CHECKING:
     from .pipeline import Plan
@@ -38,8 +38,10 @@ GROWTH_COLUMN = "ln_growth"
 # short names of the model variables, for table rows
 _SHORT = {"income": "income per worker", "income_start": "initial income per worker",
           "invest": "investment share", "schooling": "schooling investment share",
-          "human_stock": "human-capital stock", "workforce_growth": "workforce growth"}
-_PER = {"invest": "of output", "schooling": "of output", "workforce_growth": "a year"}
+          "human_stock": "human-capital stock", "workforce_growth": "workforce growth",
+          "labour_share": "labour share"}
+_PER = {"invest": "of output", "schooling": "of output", "workforce_growth": "a year",
+        "labour_share": "of income"}
 
 
 @dataclass(frozen=True)
@@ -143,7 +145,7 @@ def _formula(reg: Regressor) -> str:
 
 
 def _variable_info(var: str, col: str, spec: Spec, symbols: Mapping[str, str]) -> ColumnInfo:
-    unit = getattr(spec.body.data.units, var) if var in RATE_VARIABLES else None
+    unit = getattr(spec.body.data.units, var) if var in UNIT_VARIABLES else None
     codes = spec.body.data.missing_codes
     symbol = symbols.get(var) or SYMBOLS[var]
     unit_text = f"{unit} {_PER[var]}" if unit else "as in the data file"
@@ -158,7 +160,7 @@ def _variable_info(var: str, col: str, spec: Spec, symbols: Mapping[str, str]) -
 
 def _log_info(var: str, col: str, name: str, spec: Spec, symbols: Mapping[str, str]
               ) -> ColumnInfo:
-    unit = getattr(spec.body.data.units, var) if var in RATE_VARIABLES else None
+    unit = getattr(spec.body.data.units, var) if var in UNIT_VARIABLES else None
     arg = f"{col}/100" if unit == "percent" else col
     gd = spec.body.assumptions.g_plus_delta
     if var == "workforce_growth":
@@ -227,6 +229,8 @@ def build_analysis(plan: Plan) -> AnalysisData:
 
     canonical: dict[str, str] = {}  # canonical or regressor name -> analysis column
     for var, col in table.variables.items():
+        if var not in LOG_COLUMNS:  # the labour share: an anchor, never logged
+            continue
         ln = LOG_COLUMNS[var]
         canonical[ln] = add(_log_info(var, col, ln, spec, symbols), frame[ln])
     if GROWTH_COLUMN in frame.columns:

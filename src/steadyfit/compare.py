@@ -160,10 +160,21 @@ def _test_verdict(test: dict[str, Any] | None, level: float, words: tuple[str, s
     return word, f"{word} at {at}"
 
 
+def _anchor_verdict(share: dict[str, Any], cell: tuple[str, str], prefix: str, level: float,
+                    at: str) -> dict[tuple[str, str, str], Verdict]:
+    """A share's test against the measured capital share, where the record has one."""
+    anchor = share.get("anchor")
+    if not anchor:
+        return {}
+    verdict = _test_verdict(anchor.get("test"), level, ("differ", "do not differ"), at)
+    return {(*cell, f"{prefix}{share['name']} against the measured capital share"):
+            verdict or (NOT_AVAILABLE, NOT_AVAILABLE)}
+
+
 def record_verdicts(record: dict[str, Any]) -> dict[tuple[str, str, str], Verdict]:
     """Every verdict of a (current-layout) record, keyed by (equation, sample, what): the
-    restriction's F test at the run's level, each share against its band, each
-    levels-versus-growth comparison, each replication target."""
+    restriction's F test at the run's level, each share against its band and against the
+    measured capital share, each levels-versus-growth comparison, each replication target."""
     level, at = _level_words(record)
     out: dict[tuple[str, str, str], Verdict] = {}
     for r in record.get("results", []):
@@ -176,6 +187,7 @@ def record_verdicts(record: dict[str, Any]) -> dict[tuple[str, str, str], Verdic
             if share.get("band") is not None:
                 status = share.get("band_status") or NOT_AVAILABLE
                 out[(*cell, f"{share['name']} against its band")] = status, status
+            out.update(_anchor_verdict(share, cell, "", level, at))
     for p in record.get("panels", []):
         cell = (p["equation"], p["sample"])
         for e in p.get("estimators", []):
@@ -188,6 +200,7 @@ def record_verdicts(record: dict[str, Any]) -> dict[tuple[str, str, str], Verdic
                 if share.get("band") is not None:
                     status = share.get("band_status") or NOT_AVAILABLE
                     out[(*cell, f"{title}: {share['name']} against its band")] = status, status
+                out.update(_anchor_verdict(share, cell, f"{title}: ", level, at))
             tests = {t.get("name", ""): t for t in e.get("unrestricted", {}).get("tests", [])}
             ar2 = next((t for n, t in tests.items() if n.startswith("AR(2)")), None)
             w = _test_verdict(ar2, level, ("second-order correlation",

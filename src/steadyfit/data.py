@@ -21,7 +21,7 @@ import pandas as pd
 from .equations import ModelForm
 from .errors import InputError, did_you_mean, quote
 from .filters import evaluate_filter, parse_filter, referenced_columns
-from .spec import RATE_VARIABLES, Spec
+from .spec import UNIT_VARIABLES, Spec
 
 if TYPE_CHECKING:
     from .panel.annual import PanelTable
@@ -37,9 +37,11 @@ LOG_COLUMNS = {
 }
 
 # Rates outside these bounds cannot be right in the declared unit.  The bounds
-# are common practice, no source: investment shares lie in (0, 1] as fractions,
-# and no workforce grows or shrinks by more than 20% a year.
-_SHARE_VARS = ("invest", "schooling")
+# are common practice, no source: investment shares and the labour share lie in
+# (0, 1] as fractions, and no workforce grows or shrinks by more than 20% a year.
+_SHARE_VARS = ("invest", "schooling", "labour_share")
+# The canonical column of the labour share, as a fraction (never logged, never a regressor).
+LABOUR_SHARE = "labour_share"
 
 
 @dataclass(frozen=True)
@@ -261,7 +263,7 @@ def load_data(spec: Spec) -> EconomyTable:
             values = values.where(~values.isin(codes))
         check_values(values, var, col, bool(codes))
         frame[col] = values
-    for var in RATE_VARIABLES:
+    for var in UNIT_VARIABLES:
         if var in variables:
             unit = getattr(body.data.units, var)
             warnings += check_unit(frame[variables[var]], var, variables[var], unit)
@@ -270,7 +272,7 @@ def load_data(spec: Spec) -> EconomyTable:
         raise InputError(f"the data have no column '{quote(cluster)}'"
                          f"{did_you_mean(cluster, columns)}", "inference.cluster")
 
-    percent = {var for var in RATE_VARIABLES if getattr(body.data.units, var) == "percent"}
+    percent = {var for var in UNIT_VARIABLES if getattr(body.data.units, var) == "percent"}
     add_log_columns(frame, variables, percent, body.assumptions.g_plus_delta)
     return EconomyTable(frame, path, file_sha256(path), body.data.id, variables, tuple(warnings))
 
@@ -280,11 +282,15 @@ def add_log_columns(frame: pd.DataFrame, variables: Mapping[str, str], percent: 
     """Add the canonical log columns (``ln_y``, ``ln_sk``, ...; ``ln_growth`` when both ends of
     income are there) to ``frame`` in place, with each variable's level (a fraction; n + g +
     delta for workforce growth) as ``_<variable>_level`` for messages and checks.  A value
-    at or below zero gets a missing log."""
+    at or below zero gets a missing log.  The labour share is not logged: it becomes the
+    fraction column ``labour_share`` (see :func:`labour_share_column`)."""
     for var, col in variables.items():
         values = frame[col].astype(float)
         if var in percent:
             values = values / 100.0
+        if var == LABOUR_SHARE:
+            frame[LABOUR_SHARE] = labour_share_column(values, col)
+            continue
         if var == "workforce_growth":
             values = values + g_plus_delta
         with np.errstate(divide="ignore", invalid="ignore"):
@@ -293,6 +299,18 @@ def add_log_columns(frame: pd.DataFrame, variables: Mapping[str, str], percent: 
         frame[f"_{var}_level"] = values
     if "ln_y" in frame.columns and "ln_y0" in frame.columns:
         frame["ln_growth"] = frame["ln_y"] - frame["ln_y0"]
+
+
+def labour_share_column(values: pd.Series, col: str) -> pd.Series:
+    """The labour share as a fraction, refused where it is zero or negative (the unit checks
+    already refuse values above one)."""
+    bad = (values <= 0).to_numpy()
+    if bad.any():
+        raise InputError(f"economy {_economies(values, values <= 0)} has a labour share of "
+                         f"{values[bad].iloc[0]:g}; a labour share must lie above 0 (leave the "
+                         "cell empty where it is not known)",
+                         f"column '{col}' (data.columns.{LABOUR_SHARE})")
+    return values
 
 
 def numeric_column(series: pd.Series, var: str, col: str) -> pd.Series:
@@ -364,9 +382,10 @@ def check_unit(values: pd.Series, var: str, col: str, unit: str) -> list[str]:
         if unit == "percent" and v.max() > 100:
             _unit_error(v, v > 100, "above 100 percent of output", where)
         if unit == "percent" and v.max() <= 1:
+            what = ("almost no income goes to labour" if var == LABOUR_SHARE
+                    else "almost nothing is invested")
             raise InputError(f"every value is at most {v.max():g}, which as percent would mean "
-                             f"almost nothing is invested; they look like fractions: {fix}",
-                             where)
+                             f"{what}; they look like fractions: {fix}", where)
         _check_mixed(v, v.abs() <= 1, where)
         if unit == "percent" and v.median() < 2:
             return [f"{where}: the median is {v.median():g} percent, low for a share of output; "

@@ -116,8 +116,52 @@ def _short(e: Estimate) -> str:
 
 
 @dataclass(frozen=True)
+class MeasuredShare:
+    """The capital share the national accounts give a sample: one minus the labour share.
+
+    ``value`` is the mean over the ``n`` economies of the estimation sample that have a
+    labour share (of ``n_sample``), ``se`` the standard error of that mean across
+    economies, ``lowest``/``highest`` the range over those economies; ``years`` the years
+    averaged within each economy (annual data).  With ``reason`` set there is no value.
+    """
+
+    column: str
+    value: float
+    se: float
+    lowest: float
+    highest: float
+    n: int
+    n_sample: int
+    years: tuple[int, int] | None = None
+    reason: str | None = None
+
+    @property
+    def available(self) -> bool:
+        return self.reason is None
+
+
+@dataclass(frozen=True)
+class AnchorCheck:
+    """An implied capital share held against the sample's measured capital share.
+
+    ``gap`` is the implied share minus the measured one, its standard error combining
+    both as if independent; ``test`` the z test that they are equal; ``inside`` whether
+    the measured share lies in the implied share's interval and ``measured_in_band``
+    whether it lies in the plausible band (None where either is not available).
+    """
+
+    measured: MeasuredShare
+    gap: Estimate
+    test: TestResult
+    inside: bool | None
+    measured_in_band: bool | None
+
+
+@dataclass(frozen=True)
 class ShareVerdict:
-    """An implied share judged against its plausibility band and a test point."""
+    """An implied share judged against its plausibility band and a test point, and (the
+    physical capital share, where the data carry a labour share) against national
+    accounts."""
 
     estimate: Estimate
     band: tuple[float, float] | None
@@ -125,6 +169,7 @@ class ShareVerdict:
     point: float | None
     point_test: TestResult | None
     interval_reaches_one: bool
+    anchor: AnchorCheck | None = None
 
     @property
     def name(self) -> str:
@@ -387,6 +432,14 @@ class Findings:
                 + (f"{len(self.panels)} panel results, " if self.panels else "") +
                 f"{sum(t.met for t in self.scorecard)} of {len(self.scorecard)} targets met; "
                 "print() it for the key results)")
+
+    def anchored(self) -> tuple[tuple[str, ShareVerdict], ...]:
+        """Every implied share held against the measured capital share, with the heading of
+        its result (and, for panels, its estimator), cross-section results first."""
+        out = [(r.heading, v) for r in self.results for v in r.shares if v.anchor is not None]
+        out += [(f"{p.heading}: {f.title}", v) for p in self.panels for f in p.estimators
+                for v in f.shares if v.anchor is not None]
+        return tuple(out)
 
     def result(self, equation: str, sample: str) -> EquationFindings:
         for r in self.results:

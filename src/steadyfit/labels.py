@@ -21,7 +21,8 @@ NGD = f"n + g + {DELTA}"
 
 # the symbol of each model variable (a key of [data.columns]) inside log terms
 SYMBOLS = {"income": "y", "income_start": "y\u2080", "invest": "s\u2096",
-           "schooling": "s\u2095", "human_stock": "h", "workforce_growth": "n"}
+           "schooling": "s\u2095", "human_stock": "h", "workforce_growth": "n",
+           "labour_share": "s\u2097"}
 
 # quantity names (see steadyfit.quantities) as tables print them
 QUANTITY_LABELS = {"alpha": ALPHA, "beta": BETA, "alpha+beta": f"{ALPHA} + {BETA}",

@@ -16,14 +16,16 @@ from pathlib import Path
 import numpy as np
 
 from . import equations
+from .anchor import MEASURED_SHARE_CAVEAT, anchored, measured_share
 from .consistency import consistency_checks
-from .data import EconomyTable, Selection, load_data, select
+from .data import LABOUR_SHARE, EconomyTable, Selection, load_data, select
 from .design import Design, build_design
 from .errors import EstimationError, quote
 from .estimators import fit_ols
 from .findings import (
     EquationFindings,
     Findings,
+    MeasuredShare,
     Observations,
     Provenance,
     SampleSummary,
@@ -48,6 +50,7 @@ class PlannedCell:
     selection: Selection
     design: Design
     structural: bool = False
+    measured: MeasuredShare | None = None  # the national-accounts anchor, where data have one
 
 
 @dataclass(frozen=True)
@@ -94,8 +97,19 @@ def plan(spec: Spec | str | Path) -> Plan:
         for sample in spec.equation_samples(eq):
             selection = select(table, spec, sample, form)
             design = build_design(selection, form, eq.name, spec.body.labels.variables)
-            cells.append(PlannedCell(selection, design, eq.structural))
+            cells.append(PlannedCell(selection, design, eq.structural,
+                                     measured_of(spec, table, design.economies)))
     return Plan(spec, table, tuple(cells), tuple(panels))
+
+
+def measured_of(spec: Spec, table: EconomyTable, economies: tuple[str, ...]
+                ) -> MeasuredShare | None:
+    """The measured capital share of ``economies`` (None when the data have no labour
+    share)."""
+    column = spec.body.data.columns.labour_share
+    if column is None:
+        return None
+    return measured_share(table.frame[LABOUR_SHARE], economies, column, table.span)
 
 
 def settings_of(spec: Spec, table: EconomyTable | None = None) -> Settings:
@@ -153,6 +167,7 @@ def _estimate_cell(cell: PlannedCell, settings: Settings) -> EquationFindings:
     f_test, wald = restriction_tests(d, unres, res)
     shares, speed, problem = implied_parameters(d.form, res, settings.confidence,
                                                 settings.bands, settings.points)
+    shares = anchored(shares, cell.measured)
     un_shares, cross = unrestricted_shares(d.form, unres, settings.confidence)
     notes = []
     for fit in (unres, res):
@@ -232,6 +247,8 @@ def caveats(spec: Spec, table: EconomyTable) -> tuple[str, ...]:
                    "table's notes); pooled OLS and within are biased in opposite directions, "
                    "and GMM estimates are only as good as their instruments, which the "
                    "AR(2), over-identification and bracket checks probe but cannot prove.")
+    if b.data.columns.labour_share is not None:
+        out.append(MEASURED_SHARE_CAVEAT)
     out.append("Cross-country regressions describe associations across economies; they do not "
                "by themselves say what a policy would do in any one of them.")
     return tuple(out)

@@ -25,6 +25,10 @@ same way:
 ``md_<p>``             minimum-distance estimate (and ``_se``); ``md_overid``,
                        ``md_overid_p`` the over-identification test
 ``nls_<p>``            nonlinear least squares (``_se`` classical, ``_robust_se``)
+``measured_capital_``  ``measured_capital_share``: one minus the mean labour share of the
+``share``              economies used (``_se`` of that mean), where the data carry one;
+                       ``alpha_gap`` implied alpha minus it (``_se``), ``alpha_gap_p`` the
+                       test that they are equal
 =====================  ==========================================================
 
 Targets may also use the names the tables print (``lambda``, ``λ``, ``half-life``,
@@ -41,7 +45,7 @@ from .equations import ModelForm
 from .panel.methods import METHODS
 
 if TYPE_CHECKING:
-    from .findings import EquationFindings, Estimate
+    from .findings import EquationFindings, Estimate, ShareVerdict
     from .panel.results import PanelFindings
 
 CONSTANT = "const"
@@ -83,6 +87,28 @@ def _parameter_names(form: ModelForm) -> list[str]:
     return params
 
 
+# the national-accounts anchor of alpha (see steadyfit.anchor)
+ANCHOR_NAMES = ("measured_capital_share", "measured_capital_share_se", "alpha_gap",
+                "alpha_gap_se", "alpha_gap_p")
+NO_LABOUR_SHARE = "the data have no labour share (data.columns.labour_share)"
+
+
+def _anchor_names(form: ModelForm) -> list[str]:
+    return list(ANCHOR_NAMES) if "alpha" in form.parameters.shares else []
+
+
+def anchor_quantities(v: ShareVerdict) -> dict[str, tuple[float, str | None]]:
+    """The anchor's quantities of one share verdict, each with why it has no number."""
+    a = v.anchor
+    if a is None:
+        return {}
+    m = a.measured
+    return {"measured_capital_share": (m.value, m.reason),
+            "measured_capital_share_se": (m.se, m.reason),
+            "alpha_gap": (a.gap.value, a.gap.reason), "alpha_gap_se": (a.gap.se, a.gap.reason),
+            "alpha_gap_p": (a.test.pvalue, a.test.reason)}
+
+
 # per panel estimator: tests and counts (each name prefixed '<estimator>:')
 PANEL_TESTS = ("restriction_wald", "restriction_wald_p", "overid", "overid_p", "ar1", "ar1_p",
                "ar2", "ar2_p", "first_stage_f", "first_stage_p")
@@ -96,7 +122,7 @@ def panel_quantity_names(form: ModelForm) -> tuple[str, ...]:
                                                                  "restricted_se")]
     per += [f"{s}{suffix}" for s in ["gamma", *_parameter_names(form)]
             for suffix in ("", "_se", "_low", "_high")]
-    per += [*PANEL_TESTS, *PANEL_COUNTS]
+    per += [*PANEL_TESTS, *PANEL_COUNTS, *_anchor_names(form)]
     return tuple(f"{m}:{q}" for m in METHODS for q in per)
 
 
@@ -123,7 +149,7 @@ def quantity_names(form: ModelForm) -> tuple[str, ...]:
         names += ["md_overid", "md_overid_p"]
     names += [f"nls_{s}{suffix}" for s in form.parameters.names
               for suffix in ("", "_se", "_robust_se")]
-    return tuple(names)
+    return tuple(names + _anchor_names(form))
 
 
 def quantities(r: EquationFindings) -> dict[str, float | None]:
@@ -173,6 +199,9 @@ def _collect(r: EquationFindings) -> tuple[dict[str, float | None], dict[str, st
                 t.pvalue, t.reason)
     for e in (*(v.estimate for v in r.shares), *r.speed):
         put_estimate(e.name, e)
+    for v in r.shares:
+        for name, (value, reason) in anchor_quantities(v).items():
+            put(name, value, reason)
     for e in r.unrestricted_shares:
         put_estimate(f"unrestricted_{e.name}", e, interval=False)
     c = r.crosscheck
@@ -203,6 +232,8 @@ def _collect(r: EquationFindings) -> tuple[dict[str, float | None], dict[str, st
                          if r.problem is None else f"not estimated: {r.problem}")
         elif name.startswith("md_"):
             why[name] = f"not estimated: {r.problem}" if r.problem else "not estimated"
+        elif name in ANCHOR_NAMES:
+            why[name] = NO_LABOUR_SHARE
         else:
             why[name] = "not computed for this result"
     return q, why
@@ -235,6 +266,9 @@ def panel_quantities(p: PanelFindings) -> tuple[dict[str, float | None], dict[st
             for suffix, value in (("", e.value), ("_se", e.se), ("_low", e.low),
                                   ("_high", e.high)):
                 put(f"{m}:{e.name}{suffix}", value, e.reason)
+        for v in f.shares:
+            for name, (value, reason) in anchor_quantities(v).items():
+                put(f"{m}:{name}", value, reason)
         if f.wald_test is not None:
             put(f"{m}:restriction_wald", f.wald_test.statistic, f.wald_test.reason)
             put(f"{m}:restriction_wald_p", f.wald_test.pvalue, f.wald_test.reason)
@@ -257,5 +291,6 @@ def panel_quantities(p: PanelFindings) -> tuple[dict[str, float | None], dict[st
             q[name] = None
             why[name] = ("this estimator was not asked for" if not any(
                 name.startswith(f.method + ":") for f in p.estimators)
+                else NO_LABOUR_SHARE if name.partition(":")[2] in ANCHOR_NAMES
                 else "not computed by this estimator")
     return q, why

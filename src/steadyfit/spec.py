@@ -38,6 +38,8 @@ Treatment = Literal["exogenous", "predetermined", "endogenous"]
 FigureChoice = Literal["all", "key", "none"]
 FigureFormat = Literal["svg", "pdf"]
 RATE_VARIABLES = ("invest", "schooling", "workforce_growth")
+# Every column whose unit must be declared: the rates and the labour share of income.
+UNIT_VARIABLES = (*RATE_VARIABLES, "labour_share")
 # Names become file names in run folders: a letter first, then letters, digits, _ and -, so
 # none can be '.', '..', absolute or hold a separator.
 _NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_\-]{0,63}$")
@@ -70,14 +72,17 @@ class ColumnMap(Record):
     schooling: str | None = Field(None, description="share invested in human capital")
     human_stock: str | None = Field(None, description="stock of human capital per worker")
     income_start: str | None = Field(None, description="output per worker at the start")
+    labour_share: str | None = Field(None, description="labour share of income in the "
+                                     "national accounts (not used in estimation)")
 
 
 class UnitMap(Record):
-    """Declared unit of each rate column."""
+    """Declared unit of each rate column and of the labour share."""
 
     invest: Unit | None = None
     schooling: Unit | None = None
     workforce_growth: Unit | None = None
+    labour_share: Unit | None = None
 
 
 class DataSpec(Record):
@@ -116,7 +121,7 @@ class DataSpec(Record):
                 if value != default:
                     raise ValueError(f"{key}: only for annual data (give data.year, the column "
                                      "of years)")
-        for var in RATE_VARIABLES:
+        for var in UNIT_VARIABLES:
             if getattr(self.columns, var) is not None and getattr(self.units, var) is None:
                 raise ValueError(
                     f"units.{var}: the unit of '{var}' must be declared as \"percent\" or "

@@ -301,6 +301,10 @@ def _plausibility(table: PrintedTable, values: list[ImpliedValue], problem: str 
     got = {v.name: v for v in values}
     for name in ("alpha", "beta"):
         v = got.get(name)
+        if v is not None and v.value < 0:
+            out.append(f"{name} = {v.value:.3f} is negative, which no share of income can be: "
+                       "the printed slope of that factor has the sign the model rules out, so "
+                       "the table contradicts the model rather than calibrating it")
         if v is None or v.band is None or v.band_status is None:
             continue
         lo, hi = v.band

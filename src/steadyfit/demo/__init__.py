@@ -4,7 +4,10 @@ Every economy and region name here is invented.  The data follow the
 steady-state model with human capital (DOMAIN.md section 2) with known shares
 ``TRUE_ALPHA`` and ``TRUE_BETA``, technology differences and deviations from the
 steady state as noise, and a group of resource exporters whose income owes
-more to resource rents than to the model (so excluding them matters).
+more to resource rents than to the model (so excluding them matters).  The
+labour share the invented accounts report books part of the self-employed's
+income and the exporters' rents as capital income, so the measured capital
+share lies above ``TRUE_ALPHA``.
 
 :func:`generate` rebuilds the shipped table exactly (legacy ``RandomState``
 streams are stable across numpy versions); :func:`write_demo` copies the
@@ -70,6 +73,12 @@ def generate(seed: int = SEED, n: int = N_ECONOMIES) -> pd.DataFrame:
     g = 0.02
     ln_y_end = ln_y0 + g * SPAN_YEARS + theta * (ln_ystar - ln_y0) + rng.normal(0, 0.12, size=n)
     population = np.exp(rng.normal(np.log(8.0e6), 1.3, size=n)).round(-3)
+    # the labour share the accounts report: 1 - alpha, less the income of the self-employed
+    # booked as capital income (more of it where income is low) and the resource exporters'
+    # rents, plus noise; a few economies publish none
+    booked = 0.12 / (1 + np.exp(ln_y_end - ln_y_end.mean()))
+    labour = 1 - a - booked - exporter * 0.08 + rng.normal(0.0, 0.025, size=n)
+    labour[rng.uniform(size=n) < 0.05] = np.nan
     frame = pd.DataFrame({
         "economy": names,
         "region": [_REGIONS[i] for i in region],
@@ -81,6 +90,7 @@ def generate(seed: int = SEED, n: int = N_ECONOMIES) -> pd.DataFrame:
         "secondary_enrolment": enrol.round(2),
         "schooling_index": hstock.round(3),
         "workforce_growth": growth.round(3),
+        "labour_share": (labour * 100).round(1),
     })
     return frame.sort_values("economy", kind="stable").reset_index(drop=True)
 

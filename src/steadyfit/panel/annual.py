@@ -24,12 +24,14 @@ import numpy as np
 import pandas as pd
 
 from ..data import (
+    LABOUR_SHARE,
     LOG_COLUMNS,
     EconomyTable,
     add_log_columns,
     check_unit,
     check_values,
     file_sha256,
+    labour_share_column,
     numeric_column,
     read_table,
 )
@@ -65,6 +67,8 @@ class PanelTable:
     shape: PanelShape
     missing: tuple[AnnualProblem, ...]
     grid: PeriodPanel  # the panel in natural units, as built
+    # per economy, the mean labour share over the panel's years (None: no labour share column)
+    labour_share: pd.Series | None = None
 
     def shape_of(self, economies: Collection[str]) -> PanelShape:
         return self.grid.shape_of(economies)
@@ -117,11 +121,14 @@ def load_annual(spec: Spec) -> EconomyTable:
             warnings += check_unit(values, var, col, unit)
             if unit == "percent":
                 values = values / 100.0
+        if var == LABOUR_SHARE:
+            values = labour_share_column(values, col)
         canonical[var] = values.to_numpy()
     if data.income_measure == "total":
         canonical["income"] = canonical["income"] / canonical["workforce"]
     if data.non_positive == "error":
-        _refuse_non_positive(raw, data.id, data.year, variables)
+        _refuse_non_positive(raw, data.id, data.year,
+                             {k: v for k, v in variables.items() if k != LABOUR_SHARE})
     annual = check_annual(canonical[["economy", "year", *[v for v in _ANNUAL_VARIABLES
                                                           if v in canonical]]],
                           on_problem=data.non_positive)
@@ -136,6 +143,9 @@ def load_annual(spec: Spec) -> EconomyTable:
     frame = span.frame.reindex(economies)
     frame = frame.join(_constant_columns(raw, data.id, {data.year, *variables.values()}))
     cs_variables = {v: v for v in span.frame.columns}
+    if LABOUR_SHARE in canonical:
+        frame[LABOUR_SHARE] = mean_over_years(canonical, first, last).reindex(economies)
+        cs_variables[LABOUR_SHARE] = LABOUR_SHARE
     add_log_columns(frame, cs_variables, (), body.assumptions.g_plus_delta)
     table = EconomyTable(frame, path, file_sha256(path), data.id, cs_variables, tuple(warnings),
                          span=(first, last), absent=absent, file_rows=len(raw))
@@ -144,9 +154,21 @@ def load_annual(spec: Spec) -> EconomyTable:
     p = body.panel
     built = _named(lambda: period_panel(annual, p.period_years, p.first_year, p.last_year),
                    "panel")
-    panel = PanelTable(_panel_frame(built.frame, body.assumptions.g_plus_delta),
-                       built.length, built.first_year, built.shape, built.missing, built)
+    panel_frame = _panel_frame(built.frame, body.assumptions.g_plus_delta)
+    share = (mean_over_years(canonical, int(panel_frame["year"].min()),
+                             int(panel_frame["year"].max()))
+             if LABOUR_SHARE in canonical else None)
+    panel = PanelTable(panel_frame, built.length, built.first_year, built.shape, built.missing,
+                       built, share)
     return replace(table, panel=panel)
+
+
+def mean_over_years(canonical: pd.DataFrame, first: int, last: int) -> pd.Series:
+    """Each economy's mean labour share over the years ``first``..``last`` it has a value
+    for (missing years are skipped, not required: the share only anchors the estimates)."""
+    years = pd.to_numeric(canonical["year"], errors="coerce")
+    rows = canonical[(years >= first) & (years <= last)]
+    return rows.groupby("economy")[LABOUR_SHARE].mean()
 
 
 def _named(build: Callable[[], T], key: str) -> T:

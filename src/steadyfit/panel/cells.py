@@ -20,6 +20,7 @@ from typing import cast
 import numpy as np
 import pandas as pd
 
+from ..anchor import anchored, measured_share
 from ..data import EconomyTable, sample_members
 from ..equations import ModelForm
 from ..errors import EstimationError
@@ -113,6 +114,13 @@ def estimate_panel_cell(table: EconomyTable, spec: Spec, equation: str, form: Mo
         for fit in (f.unrestricted, f.restricted):
             notes += [f"{f.title}: {w}" for w in fit.warnings]
     used = sorted({panels[False].economies[e] for f in found for e in _economies_used(f)})
+    share = table.panel.labour_share
+    column = spec.body.data.columns.labour_share
+    if share is not None and column is not None:
+        years = (int(table.panel.frame["year"].min()), int(table.panel.frame["year"].max()))
+        found = [replace(f, shares=anchored(f.shares, measured_share(
+            share, [str(panels[False].economies[e]) for e in _economies_used(f)], column,
+            years))) for f in found]
     return PanelFindings(
         equation=equation, sample=sample, form_key=form.key, description=form.description,
         restriction_text=form.restriction_text(spec.body.labels.variables),

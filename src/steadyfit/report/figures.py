@@ -315,10 +315,13 @@ def shares_figure(findings: Findings, formats: Sequence[str] = ("svg",)) -> Figu
     labels = [wrap(f"{r.heading}: {quantity_label(v.estimate.name)}", FONT, _ROW_LABEL)
               for r, v in rows]
     lines = max(label.count("\n") + 1 for label in labels)
+    measured = [(v.anchor.measured.value, float(n - 1 - i)) for i, (_, v) in enumerate(rows)
+                if v.anchor is not None and v.anchor.measured.available]
     row = max(0.3, (lines * LINE_SPACING * FONT + 6.0) / 72.0)
     p = Panel((lo - 0.02, min(hi + 0.02, 2.0)), (-0.6, n - 0.4),
                f"implied share of output (point and {pct}% delta-method interval)", "",
-               "grey: the plausible band; dotted: share = 1",
+               "grey: the plausible band; dotted: share = 1"
+               + ("; open diamond: measured capital share" if measured else ""),
                yticks=[(float(n - 1 - i), label) for i, label in enumerate(labels)],
                ytick_length=0.0)
     with mpl.rc_context(STYLE):
@@ -326,11 +329,17 @@ def shares_figure(findings: Findings, formats: Sequence[str] = ("svg",)) -> Figu
         add_line(fig, p, [1.0, 1.0], list(p.ylim), color="black", linestyle=":", linewidth=0.8)
         _interval_rows(fig, p, [(float(n - 1 - i), v.estimate, v.band)
                                 for i, (_, v) in enumerate(rows)])
+        if measured:
+            mx, my = zip(*measured, strict=True)
+            add_line(fig, p, mx, my, linestyle="none", marker="D", markersize=5,
+                     markerfacecolor="white", markeredgecolor="black", markeredgewidth=1.0)
         svg, pdf = export(fig, formats, title)
     return Figure("implied_shares", title,
                   "Each row names its equation and sample. Grey: the plausible band of each "
                   f"share; bars: {pct}% intervals. Beyond the dotted line at 1 no steady state "
-                  "exists; the axis stops at 2.",
+                  "exists; the axis stops at 2."
+                  + (" Open diamonds: the measured capital share (one minus the mean labour "
+                     "share of the economies used)." if measured else ""),
                   svg, pdf)
 
 

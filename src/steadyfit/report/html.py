@@ -25,7 +25,7 @@ from .tables import (
     shares_table,
     structural_table,
 )
-from .verdicts import conclusion, format_p, speed_phrase, verdict_lines
+from .verdicts import anchor_phrase, conclusion, format_p, speed_phrase, verdict_lines
 
 
 def render_table_html(table: Table, digits: int = 3) -> str:
@@ -71,6 +71,7 @@ class ShareLine:
     band: str
     status: str
     point_p: str
+    anchor: str = ""  # against the measured capital share, in words ("" without one)
 
 
 @dataclass(frozen=True)
@@ -110,6 +111,7 @@ def _verdict(r: EquationFindings, level: float, digits: int) -> Verdict:
             f"{format_number(v.band[0], 2)} to {format_number(v.band[1], 2)}" if v.band else "",
             share_status(v, r),
             _p_text(v.point_test) if v.point_test else "",
+            anchor_phrase(v.anchor, quantity_label(e.name), level) if v.anchor else "",
         ))
     lam, half = r.speed_estimate("lam"), r.speed_estimate("half_life")
     f, w = r.f_test, r.wald_test
@@ -127,7 +129,10 @@ def report_tables(findings: Findings) -> list[Table]:
     """The tables of the HTML report's table section, each coefficient shown once: implied
     shares, then per form the unrestricted and restricted fits side by side, then the
     unrestricted cross-check and the structural estimates."""
-    out = [shares_table(findings)]
+    from .anchor import anchor_table
+
+    anchor = anchor_table(findings)
+    out = [shares_table(findings), *((anchor,) if anchor else ())]
     out += [combined_table(findings, res, suffix, title)
             for suffix, title, res in families(findings)]
     if any(r.crosscheck for r in findings.results):

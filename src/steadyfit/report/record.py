@@ -14,7 +14,14 @@ from importlib import resources
 from typing import Any
 
 from ..estimators import Fit
-from ..findings import EquationFindings, Estimate, Findings, ShareVerdict, TestResult
+from ..findings import (
+    AnchorCheck,
+    EquationFindings,
+    Estimate,
+    Findings,
+    ShareVerdict,
+    TestResult,
+)
 from ..panel.results import PanelFindings, PanelFit
 from ..quantities import canonical, panel_quantities, quantities, unavailable
 
@@ -88,6 +95,21 @@ def _verdict(v: ShareVerdict) -> dict[str, Any]:
         "point": _num(v.point),
         "point_test": _test(v.point_test) if v.point_test else None,
         "interval_reaches_one": v.interval_reaches_one,
+        "anchor": _anchor(v.anchor) if v.anchor is not None else None,
+    }
+
+
+def _anchor(a: AnchorCheck) -> dict[str, Any]:
+    m = a.measured
+    return {
+        "measured": {"column": m.column, "available": m.available, "reason": m.reason,
+                     **{k: _num(getattr(m, k)) for k in ("value", "se", "lowest", "highest")},
+                     "n": m.n, "n_sample": m.n_sample,
+                     "years": list(m.years) if m.years is not None else None},
+        "gap": _estimate(a.gap),
+        "test": _test(a.test),
+        "inside": a.inside,
+        "measured_in_band": a.measured_in_band,
     }
 
 

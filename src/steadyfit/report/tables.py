@@ -555,7 +555,11 @@ def all_tables(findings: Findings) -> tuple[Table, ...]:
     """Every table of a run, in reading order."""
     card = scorecard_table(findings)
     groups = families(findings)
-    out: list[Table] = [*((card,) if card else ()), shares_table(findings)]
+    from .anchor import anchor_table
+
+    anchor = anchor_table(findings)
+    out: list[Table] = [*((card,) if card else ()), shares_table(findings),
+                        *((anchor,) if anchor else ())]
     out += [journal_table(findings, res, suffix, title) for suffix, title, res in groups]
     for restricted in (False, True):
         out += [coefficient_table(findings, restricted, res, suffix) for suffix, _, res in groups]

@@ -8,7 +8,14 @@ shown as the number it is, with "divergence" when it is negative.
 
 from __future__ import annotations
 
-from ..findings import EquationFindings, Estimate, Findings, ShareVerdict, TestResult
+from ..findings import (
+    AnchorCheck,
+    EquationFindings,
+    Estimate,
+    Findings,
+    ShareVerdict,
+    TestResult,
+)
 from ..labels import LAMBDA, quantity_label
 from .tables import format_number
 
@@ -52,7 +59,36 @@ def _share_phrase(v: ShareVerdict, r: EquationFindings) -> str:
         text += f"; test of {name} = {v.point:.3g}: {p_phrase(v.point_test.pvalue)}"
     if v.interval_reaches_one:
         text += "; the interval reaches 1, where no steady state exists"
+    if v.anchor is not None:
+        text += "; " + anchor_phrase(v.anchor, name, 1 - e.confidence)
     return text
+
+
+def measured_words(a: AnchorCheck) -> str:
+    """'the measured capital share 0.378 (one minus the labour share, mean of 76 of 80
+    economies)', or why there is none."""
+    m = a.measured
+    if not m.available:
+        return f"the measured capital share is not available ({m.reason})"
+    years = f", {m.years[0]}–{m.years[1]}" if m.years else ""
+    return (f"the measured capital share {format_number(m.value)} (one minus the labour "
+            f"share, mean of {m.n} of {m.n_sample} economies{years})")
+
+
+def anchor_phrase(a: AnchorCheck, name: str, level: float) -> str:
+    """The implied share against the measured capital share, in words; no verdict where the
+    test is not available."""
+    measured = measured_words(a)
+    if not a.measured.available:
+        return measured
+    rejects = a.test.rejects(level)
+    if rejects is None:
+        return f"against {measured}: no test ({a.test.reason})"
+    gap = a.gap.value
+    side = "above" if gap > 0 else "below"
+    word = "significant" if rejects else "not significant"
+    return (f"{name} lies {format_number(abs(gap))} {side} {measured}, a difference "
+            f"{word} at the {level:.0%} level ({p_phrase(a.test.pvalue)})")
 
 
 def speed_phrase(lam: Estimate, half: Estimate) -> str:
@@ -95,7 +131,8 @@ def verdict_lines(findings: Findings) -> tuple[str, ...]:
         if lam is not None and half is not None:
             parts.append(speed_phrase(lam, half))
         text = "; ".join(parts)
-        out.append(f"{head} {text[0].upper()}{text[1:]}." if parts else head)
+        first = text[:1].upper() if text[:1].isascii() else text[:1]  # never 'Α' for 'α'
+        out.append(f"{head} {first}{text[1:]}." if parts else head)
     return (*out, *consistency_lines(findings))
 
 
@@ -125,6 +162,19 @@ def conclusion(findings: Findings) -> str:
         if None in status:
             text += f" ({status.count(None)} without a verdict)"
         parts.append(text)
+    anchors = [v.anchor.test.rejects(level) for _, v in findings.anchored()
+               if v.anchor is not None]
+    testable = len(anchors) - anchors.count(None)
+    if testable:
+        text = (f"{sum(a is True for a in anchors)} of {testable} implied values of "
+                f"{quantity_label('alpha')} differ significantly from the measured capital "
+                "share")
+        if None in anchors:
+            text += f" ({anchors.count(None)} more cannot be compared)"
+        parts.append(text)
+    elif anchors:
+        parts.append(f"no implied {quantity_label('alpha')} can be held against the measured "
+                     "capital share (no test is available)")
     if findings.consistency:
         agree = [c.test.rejects(level) for c in findings.consistency]
         testable = len(agree) - agree.count(None)
@@ -191,5 +241,5 @@ def consistency_lines(findings: Findings) -> tuple[str, ...]:
     return tuple(out)
 
 
-__all__ = ["conclusion", "consistency_lines", "format_p", "p_phrase", "restriction_phrase",
-           "speed_phrase", "verdict_lines"]
+__all__ = ["anchor_phrase", "conclusion", "consistency_lines", "format_p", "measured_words",
+           "p_phrase", "restriction_phrase", "speed_phrase", "verdict_lines"]
