@@ -20,10 +20,18 @@ import pytest
 from scipy import stats
 
 import steadyfit
-from steadyfit.anchor import MEASURED_SHARE_CAVEAT, hold_against, measured_share
+from steadyfit.anchor import (
+    MEASURED_SHARE_CAVEAT,
+    covariance_with_alpha,
+    hold_against,
+    measured_share,
+)
 from steadyfit.compare import compare_runs
 from steadyfit.demo import shipped_file, write_demo
+from steadyfit.equations import get_form
+from steadyfit.estimators import fit_ols
 from steadyfit.findings import Estimate, ShareVerdict
+from steadyfit.inference import implied_parameters
 from steadyfit.quantities import quantities, unavailable
 from steadyfit.report.anchor import anchor_table
 from steadyfit.report.record import results_schema
@@ -77,6 +85,38 @@ def test_gap_and_test_combine_both_variances_as_independent():
     assert a.test.pvalue == pytest.approx(2 * stats.norm.sf(abs(z)), rel=1e-12)
     assert a.inside is bool(v.estimate.low <= m.value <= v.estimate.high)
     assert a.measured_in_band is (0.25 <= m.value <= 0.40)
+
+
+@pytest.mark.parametrize("key", ["levels:physical", "levels:physical+human_rate",
+                                 "growth:physical+human_stock"])
+def test_covariance_with_alpha_is_the_sandwich_of_both_contributions(key):
+    """With measured shares built as a multiple of alpha's own contributions, the covariance
+    is that multiple of alpha's HC0 variance, which statsmodels computes (delta method)."""
+    form = get_form(key, 25.0)
+    rng = np.random.default_rng(2)
+    n, k = 70, len(form.restricted) + 1
+    x = np.column_stack([np.ones(n), rng.normal(-2.0, 0.5, size=(n, k - 1))])
+    truth = np.concatenate([[3.0], rng.uniform(0.2, 0.5, k - 1)])
+    if form.form == "growth":
+        x[:, 1] = rng.normal(8.0, 1.0, n)
+        truth[1:] = [-0.3, 0.08, 0.06]
+    y = x @ truth + rng.normal(0, 0.3, n)
+    names = tuple(f"x{j}" for j in range(k))
+    fit = fit_ols(y, x, names, names, "HC0")
+    alpha = implied_parameters(form, fit, 0.95, {}, {})[0][0].estimate
+    # contributions J (X'X)^-1 x_i e_i, recovered as the covariance with unit shares
+    unit = np.eye(n)
+    contributions = np.array([covariance_with_alpha(form, fit, x, unit[i] * n) for i in range(n)])
+    capital = 0.35 + 0.5 * contributions * n
+    assert covariance_with_alpha(form, fit, x, capital) == pytest.approx(0.5 * alpha.se ** 2,
+                                                                         rel=1e-9)
+    # economies without a measured share contribute to alpha only
+    capital[::3] = np.nan
+    partial = covariance_with_alpha(form, fit, x, capital)
+    known = np.isfinite(capital)
+    c = capital[known]
+    expected = float(contributions[known] @ ((c - c.mean()) / known.sum())) * n
+    assert partial == pytest.approx(expected / n, rel=1e-9)
 
 
 def test_only_alpha_is_anchored_and_a_share_without_se_gets_no_verdict():
@@ -248,3 +288,58 @@ def test_penn_world_table_labour_shares_give_a_plausible_measured_share():
     assert m.value == pytest.approx(1 - year["labsh"].mean(), abs=1e-12)
     assert 0.3 < m.value < 0.5
     assert m.n == year["labsh"].notna().sum()
+
+
+# --- the data: the user's column untouched, impossible values refused, odd ones named --------
+
+
+def _demo_copy(tmp_path: Path) -> tuple[Path, pd.DataFrame]:
+    spec = write_demo(tmp_path / "d")
+    return spec, pd.read_csv(spec.parent / "demo_economies.csv")
+
+
+def test_the_users_column_keeps_its_values_and_filters_read_them(tmp_path):
+    spec, data = _demo_copy(tmp_path)
+    spec.write_text(spec.read_text().replace('all = ""', 'all = ""\nlabour_rich = '
+                                             '"labour_share > 62"'))
+    plan = steadyfit.plan(spec)
+    assert plan.table.frame["labour_share"].max() > 1  # still percent, as in the file
+    members = {c.selection.n_in_sample for c in plan.cells if c.selection.sample == "labour_rich"}
+    assert members == {int((data["labour_share"] > 62).sum())}
+
+
+@pytest.mark.parametrize("value, words", [(100.0, "all income or more"),
+                                          (-5.0, "must lie above 0")])
+def test_impossible_labour_shares_are_refused_as_written(tmp_path, value, words):
+    spec, data = _demo_copy(tmp_path)
+    data.loc[4, "labour_share"] = value
+    data.to_csv(spec.parent / "demo_economies.csv", index=False)
+    with pytest.raises(steadyfit.InputError) as err:
+        steadyfit.run(spec)
+    text = str(err.value)
+    assert words in text and f"{value:g} percent" in text and data.economy[4] in text
+
+
+def test_an_odd_labour_share_is_named_in_a_warning(tmp_path):
+    spec, data = _demo_copy(tmp_path)
+    data.loc[7, "labour_share"] = 6.2  # a typo for 62
+    data.to_csv(spec.parent / "demo_economies.csv", index=False)
+    found = steadyfit.run(spec)
+    assert any(data.economy[7] in w and "outside the usual" in w for w in found.warnings)
+
+
+def test_sparse_annual_labour_shares_are_named(tmp_path):
+    data = pd.read_csv(shipped_file("annual_economies.csv"))
+    data["labsh"] = 0.6
+    first = data.economy.iloc[0]
+    data.loc[(data.economy == first) & (data.year != 1999), "labsh"] = np.nan
+    data.to_csv(tmp_path / "annual.csv", index=False)
+    text = ANNUAL_SPEC.read_text().replace("../src/steadyfit/demo/annual_economies.csv",
+                                           "annual.csv")
+    text = text.replace('schooling = "enrolment" }', 'schooling = "enrolment", '
+                        'labour_share = "labsh" }')
+    text = text.replace('schooling = "percent" }', 'schooling = "percent", '
+                        'labour_share = "fraction" }')
+    (tmp_path / "spec.toml").write_text(text)
+    table = steadyfit.plan(tmp_path / "spec.toml").table
+    assert any(f"'{first}' (1 of 41 years)" in w for w in table.warnings)

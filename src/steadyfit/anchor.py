@@ -8,10 +8,13 @@ sections 2 and 6).  Where the data map ``data.columns.labour_share``, every
 implied alpha (cross-section, and each panel estimator's) is held against the
 mean measured share of the economies its equation used, beside the fixed band.
 
-The comparison treats the implied share and the sample mean as independent, and
-the measured share is only as good as the accounts behind it: how income of
-the self-employed is split between labour and capital moves it most (the
-caveat :data:`MEASURED_SHARE_CAVEAT` says so in every report that uses it).
+Both come from the same economies, so the difference's standard error uses
+their covariance, estimated from each economy's contribution to both
+(:func:`covariance_with_alpha`; panel estimators treat them as independent).
+That standard error counts sampling error only: the measured share is only as
+good as the accounts behind it, and how the income of the self-employed is
+split between labour and capital can move it by more (the caveat
+:data:`MEASURED_SHARE_CAVEAT` says so in every report that uses it).
 """
 
 from __future__ import annotations
@@ -23,6 +26,8 @@ from dataclasses import replace
 import numpy as np
 import pandas as pd
 
+from .equations import ModelForm
+from .estimators import Fit
 from .findings import AnchorCheck, Estimate, MeasuredShare, ShareVerdict, TestResult
 from .inference import normal_estimate, z_test
 
@@ -35,9 +40,11 @@ MEASURED_SHARE_CAVEAT = (
     "accounts count the income of the self-employed (farmers, small traders) as capital "
     "income, the measured capital share is too high, most of all in poorer economies with many "
     "self-employed; Gollin (2002, JPE) finds labour shares of about 0.65 to 0.80 once that "
-    "income is split (from memory). It also includes land and resource rents, which the "
-    "model's \u03b1 does not separate. The test of \u03b1 against it treats the two as "
-    "independent.")
+    "income is split (recalled from memory; check the paper). It also includes land and "
+    "resource rents, which the model's \u03b1 does not separate. The test of \u03b1 against "
+    "it counts sampling error only, not these errors of measurement, which can be larger; the "
+    "mean is unweighted (each economy counts once), not the capital share of the group's total "
+    "income.")
 
 
 def measured_share(labour: pd.Series, economies: Sequence[str], column: str,
@@ -64,8 +71,39 @@ def measured_share(labour: pd.Series, economies: Sequence[str], column: str,
                          float(capital.max()), n, n_sample, years)
 
 
-def hold_against(verdict: ShareVerdict, measured: MeasuredShare) -> ShareVerdict:
-    """The verdict with its :class:`AnchorCheck` (unchanged unless it is alpha's)."""
+def covariance_with_alpha(form: ModelForm, restricted: Fit, x: np.ndarray,
+                          capital: np.ndarray, clusters: np.ndarray | None = None) -> float:
+    """The covariance of the implied alpha and the measured share's mean, from each
+    economy's contribution to both (their influence functions).
+
+    Alpha's contribution is ``J (X'X)^-1 x_i e_i`` over the restricted fit (``J`` its
+    row of the form's Jacobian, zero on the constant); the mean's is ``(k_i - m) / N``
+    for the ``N`` economies with a measured share ``k_i`` (``capital``, NaN where
+    missing), zero for the others.  Under cluster covariance both are summed within
+    clusters first.  NaN where alpha is not among the form's parameters.
+    """
+    names = form.parameters.names
+    if "alpha" not in names:
+        return math.nan
+    slopes = restricted.coef[1:]
+    jac = np.zeros(len(restricted.coef))
+    jac[1:] = np.atleast_2d(form.parameters.forward.jacobian(slopes))[names.index("alpha")]
+    influence_a: np.ndarray = (x @ np.linalg.solve(x.T @ x, jac)) * restricted.resid
+    known = np.isfinite(capital)
+    influence_m: np.ndarray = np.zeros(len(capital))
+    if known.any():
+        influence_m[known] = (capital[known] - capital[known].mean()) / known.sum()
+    if clusters is not None:
+        codes = pd.factorize(pd.Series(clusters).astype(str))[0]
+        influence_a = np.bincount(codes, influence_a)
+        influence_m = np.bincount(codes, influence_m)
+    return float(influence_a @ influence_m)
+
+
+def hold_against(verdict: ShareVerdict, measured: MeasuredShare,
+                 covariance: float | None = None) -> ShareVerdict:
+    """The verdict with its :class:`AnchorCheck` (unchanged unless it is alpha's);
+    ``covariance`` of the implied share and the measured mean (None: independent)."""
     e = verdict.estimate
     if e.name != ANCHORED:
         return verdict
@@ -81,21 +119,22 @@ def hold_against(verdict: ShareVerdict, measured: MeasuredShare) -> ShareVerdict
         return replace(verdict, anchor=AnchorCheck(
             measured, gap, TestResult.not_available(name, null, why), None,
             _in(measured.value, verdict.band) if measured.available else None))
-    variance = e.se ** 2 + measured.se ** 2
+    cross = covariance if covariance is not None and math.isfinite(covariance) else None
+    variance = e.se ** 2 + measured.se ** 2 - 2 * (cross or 0.0)
     gap = normal_estimate(f"{e.name}_gap", e.value - measured.value, variance, e.confidence)
     test = (z_test(name, gap.value / gap.se, null) if gap.has_se and gap.se > 0 else
             TestResult.not_available(name, null, gap.reason or "the standard error is zero"))
     return replace(verdict, anchor=AnchorCheck(
         measured, gap, test, _in(measured.value, (e.low, e.high)),
-        _in(measured.value, verdict.band)))
+        _in(measured.value, verdict.band), cross))
 
 
-def anchored(shares: tuple[ShareVerdict, ...], measured: MeasuredShare | None
-             ) -> tuple[ShareVerdict, ...]:
+def anchored(shares: tuple[ShareVerdict, ...], measured: MeasuredShare | None,
+             covariance: float | None = None) -> tuple[ShareVerdict, ...]:
     """Every verdict of ``shares`` held against ``measured`` (unchanged when it is None)."""
     if measured is None:
         return shares
-    return tuple(hold_against(v, measured) for v in shares)
+    return tuple(hold_against(v, measured, covariance) for v in shares)
 
 
 def _in(value: float, interval: tuple[float, float] | None) -> bool | None:

@@ -40,8 +40,13 @@ LOG_COLUMNS = {
 # are common practice, no source: investment shares and the labour share lie in
 # (0, 1] as fractions, and no workforce grows or shrinks by more than 20% a year.
 _SHARE_VARS = ("invest", "schooling", "labour_share")
-# The canonical column of the labour share, as a fraction (never logged, never a regressor).
+# The labour share: its model variable, and its canonical column as a fraction (private, so
+# a user's column of the same name is never overwritten; never logged, never a regressor).
 LABOUR_SHARE = "labour_share"
+SHARE_COLUMN = "_labour_share"
+# Labour shares outside this range are possible but rare enough to check (common practice, no
+# source): a warning names the economies.
+USUAL_LABOUR_SHARE = (0.2, 0.95)
 
 
 @dataclass(frozen=True)
@@ -267,6 +272,9 @@ def load_data(spec: Spec) -> EconomyTable:
         if var in variables:
             unit = getattr(body.data.units, var)
             warnings += check_unit(frame[variables[var]], var, variables[var], unit)
+    if LABOUR_SHARE in variables:
+        warnings += check_labour_share(frame[variables[LABOUR_SHARE]], variables[LABOUR_SHARE],
+                                       body.data.units.labour_share or "fraction")
     cluster = body.inference.cluster
     if cluster is not None and cluster not in frame.columns:
         raise InputError(f"the data have no column '{quote(cluster)}'"
@@ -283,13 +291,13 @@ def add_log_columns(frame: pd.DataFrame, variables: Mapping[str, str], percent: 
     income are there) to ``frame`` in place, with each variable's level (a fraction; n + g +
     delta for workforce growth) as ``_<variable>_level`` for messages and checks.  A value
     at or below zero gets a missing log.  The labour share is not logged: it becomes the
-    fraction column ``labour_share`` (see :func:`labour_share_column`)."""
+    fraction column ``_labour_share`` (checked before by :func:`check_labour_share`)."""
     for var, col in variables.items():
         values = frame[col].astype(float)
         if var in percent:
             values = values / 100.0
         if var == LABOUR_SHARE:
-            frame[LABOUR_SHARE] = labour_share_column(values, col)
+            frame[SHARE_COLUMN] = values
             continue
         if var == "workforce_growth":
             values = values + g_plus_delta
@@ -301,16 +309,34 @@ def add_log_columns(frame: pd.DataFrame, variables: Mapping[str, str], percent: 
         frame["ln_growth"] = frame["ln_y"] - frame["ln_y0"]
 
 
-def labour_share_column(values: pd.Series, col: str) -> pd.Series:
-    """The labour share as a fraction, refused where it is zero or negative (the unit checks
-    already refuse values above one)."""
-    bad = (values <= 0).to_numpy()
-    if bad.any():
-        raise InputError(f"economy {_economies(values, values <= 0)} has a labour share of "
-                         f"{values[bad].iloc[0]:g}; a labour share must lie above 0 (leave the "
-                         "cell empty where it is not known)",
-                         f"column '{col}' (data.columns.{LABOUR_SHARE})")
-    return values
+def check_labour_share(values: pd.Series, col: str, unit: str) -> list[str]:
+    """Refuse labour shares of zero or less and of all income or more, naming the economy and
+    the value as the file writes it; warn where one lies outside :data:`USUAL_LABOUR_SHARE`.
+    The index names each value (an economy, or an economy and year)."""
+    where = f"column '{col}' (data.columns.{LABOUR_SHARE})"
+    full = 100.0 if unit == "percent" else 1.0
+    shown = " percent" if unit == "percent" else ""
+    v = values.dropna()
+    for bad, what in ((v <= 0, "a labour share must lie above 0"),
+                      (v >= full, "a labour share of all income or more leaves no capital "
+                                  "share")):
+        if bad.any():
+            raise InputError(f"{_who(v, bad)} a labour share of {v[bad].iloc[0]:g}{shown}; "
+                             f"{what} (leave the cell empty where it is not known)", where)
+    low, high = (b * full for b in USUAL_LABOUR_SHARE)
+    odd = (v < low) | (v > high)
+    if not odd.any():
+        return []
+    return [f"{where}: {_who(v, odd)} a labour share outside the usual {low:g} to {high:g}"
+            f"{shown} (first: {v[odd].iloc[0]:g}); check the data (common practice, no "
+            "source)"]
+
+
+def _who(values: pd.Series, mask: pd.Series) -> str:
+    """'economy 'A' has' or 'economies 'A', 'B' and 3 more have'."""
+    many = int(mask.sum()) > 1
+    return f"{'economies' if many else 'economy'} {_economies(values, mask)} " + (
+        "have" if many else "has")
 
 
 def numeric_column(series: pd.Series, var: str, col: str) -> pd.Series:
@@ -406,7 +432,7 @@ def check_unit(values: pd.Series, var: str, col: str, unit: str) -> list[str]:
 
 
 def _unit_error(v: pd.Series, mask: pd.Series, what: str, where: str) -> NoReturn:
-    raise InputError(f"economy {_economies(v, mask)} has values {what}", where)
+    raise InputError(f"{_who(v, mask)} values {what}", where)
 
 
 def _check_mixed(v: pd.Series, small: pd.Series, where: str) -> None:

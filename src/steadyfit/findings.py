@@ -21,6 +21,8 @@ if TYPE_CHECKING:
     from .panel.results import PanelFindings
 
 BandStatus = Literal["inside", "overlaps", "outside"]
+# how a test's p-value is read: from F, chi-square or normal tails, or from bootstrap draws
+Distribution = Literal["F", "chi2", "normal", "bootstrap"]
 
 
 @dataclass(frozen=True)
@@ -36,7 +38,7 @@ class TestResult:
     statistic: float
     pvalue: float
     df: tuple[float, ...]
-    distribution: Literal["F", "chi2", "normal"]
+    distribution: Distribution
     null: str
     reason: str | None = None
 
@@ -50,7 +52,7 @@ class TestResult:
 
     @staticmethod
     def not_available(name: str, null: str, reason: str,
-                      distribution: Literal["F", "chi2", "normal"] = "normal",
+                      distribution: Distribution = "normal",
                       df: tuple[float, ...] = ()) -> TestResult:
         return TestResult(name, math.nan, math.nan, df, distribution, null, reason)
 
@@ -144,10 +146,12 @@ class MeasuredShare:
 class AnchorCheck:
     """An implied capital share held against the sample's measured capital share.
 
-    ``gap`` is the implied share minus the measured one, its standard error combining
-    both as if independent; ``test`` the z test that they are equal; ``inside`` whether
-    the measured share lies in the implied share's interval and ``measured_in_band``
-    whether it lies in the plausible band (None where either is not available).
+    ``gap`` is the implied share minus the measured one; its standard error combines
+    both with ``covariance``, their covariance estimated from each economy's contribution
+    to both (None: treated as independent, as for panel estimators).  ``test`` is the z
+    test that they are equal, counting sampling error only; ``inside`` whether the
+    measured share lies in the implied share's interval and ``measured_in_band`` whether
+    it lies in the plausible band (None where either is not available).
     """
 
     measured: MeasuredShare
@@ -155,6 +159,7 @@ class AnchorCheck:
     test: TestResult
     inside: bool | None
     measured_in_band: bool | None
+    covariance: float | None = None
 
 
 @dataclass(frozen=True)

@@ -16,9 +16,9 @@ from pathlib import Path
 import numpy as np
 
 from . import equations
-from .anchor import MEASURED_SHARE_CAVEAT, anchored, measured_share
+from .anchor import MEASURED_SHARE_CAVEAT, anchored, covariance_with_alpha, measured_share
 from .consistency import consistency_checks
-from .data import LABOUR_SHARE, EconomyTable, Selection, load_data, select
+from .data import SHARE_COLUMN, EconomyTable, Selection, load_data, select
 from .design import Design, build_design
 from .errors import EstimationError, quote
 from .estimators import fit_ols
@@ -51,6 +51,7 @@ class PlannedCell:
     design: Design
     structural: bool = False
     measured: MeasuredShare | None = None  # the national-accounts anchor, where data have one
+    capital_shares: np.ndarray | None = None  # 1 - labour share of each economy used (NaN: none)
 
 
 @dataclass(frozen=True)
@@ -97,8 +98,10 @@ def plan(spec: Spec | str | Path) -> Plan:
         for sample in spec.equation_samples(eq):
             selection = select(table, spec, sample, form)
             design = build_design(selection, form, eq.name, spec.body.labels.variables)
-            cells.append(PlannedCell(selection, design, eq.structural,
-                                     measured_of(spec, table, design.economies)))
+            measured = measured_of(spec, table, design.economies)
+            capital = (None if measured is None else 1.0 - table.frame[SHARE_COLUMN].reindex(
+                list(design.economies)).to_numpy(dtype=float))
+            cells.append(PlannedCell(selection, design, eq.structural, measured, capital))
     return Plan(spec, table, tuple(cells), tuple(panels))
 
 
@@ -109,7 +112,7 @@ def measured_of(spec: Spec, table: EconomyTable, economies: tuple[str, ...]
     column = spec.body.data.columns.labour_share
     if column is None:
         return None
-    return measured_share(table.frame[LABOUR_SHARE], economies, column, table.span)
+    return measured_share(table.frame[SHARE_COLUMN], economies, column, table.span)
 
 
 def settings_of(spec: Spec, table: EconomyTable | None = None) -> Settings:
@@ -167,7 +170,10 @@ def _estimate_cell(cell: PlannedCell, settings: Settings) -> EquationFindings:
     f_test, wald = restriction_tests(d, unres, res)
     shares, speed, problem = implied_parameters(d.form, res, settings.confidence,
                                                 settings.bands, settings.points)
-    shares = anchored(shares, cell.measured)
+    if cell.measured is not None and cell.capital_shares is not None:
+        with_alpha = covariance_with_alpha(d.form, res, d.x_restricted, cell.capital_shares,
+                                           d.clusters)
+        shares = anchored(shares, cell.measured, with_alpha)
     un_shares, cross = unrestricted_shares(d.form, unres, settings.confidence)
     notes = []
     for fit in (unres, res):

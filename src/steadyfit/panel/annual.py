@@ -28,10 +28,10 @@ from ..data import (
     LOG_COLUMNS,
     EconomyTable,
     add_log_columns,
+    check_labour_share,
     check_unit,
     check_values,
     file_sha256,
-    labour_share_column,
     numeric_column,
     read_table,
 )
@@ -119,10 +119,10 @@ def load_annual(spec: Spec) -> EconomyTable:
         unit = getattr(data.units, var, None)
         if unit is not None:
             warnings += check_unit(values, var, col, unit)
+            if var == LABOUR_SHARE:
+                warnings += check_labour_share(values, col, unit)
             if unit == "percent":
                 values = values / 100.0
-        if var == LABOUR_SHARE:
-            values = labour_share_column(values, col)
         canonical[var] = values.to_numpy()
     if data.income_measure == "total":
         canonical["income"] = canonical["income"] / canonical["workforce"]
@@ -146,6 +146,7 @@ def load_annual(spec: Spec) -> EconomyTable:
     if LABOUR_SHARE in canonical:
         frame[LABOUR_SHARE] = mean_over_years(canonical, first, last).reindex(economies)
         cs_variables[LABOUR_SHARE] = LABOUR_SHARE
+        warnings += sparse_years(canonical, first, last, variables[LABOUR_SHARE])
     add_log_columns(frame, cs_variables, (), body.assumptions.g_plus_delta)
     table = EconomyTable(frame, path, file_sha256(path), data.id, cs_variables, tuple(warnings),
                          span=(first, last), absent=absent, file_rows=len(raw))
@@ -169,6 +170,24 @@ def mean_over_years(canonical: pd.DataFrame, first: int, last: int) -> pd.Series
     years = pd.to_numeric(canonical["year"], errors="coerce")
     rows = canonical[(years >= first) & (years <= last)]
     return rows.groupby("economy")[LABOUR_SHARE].mean()
+
+
+def sparse_years(canonical: pd.DataFrame, first: int, last: int, col: str) -> list[str]:
+    """A warning naming the economies whose labour share covers fewer than half the years
+    ``first``..``last`` (their mean rests on those years alone)."""
+    years = pd.to_numeric(canonical["year"], errors="coerce")
+    rows = canonical[(years >= first) & (years <= last)]
+    counts = rows.groupby("economy")[LABOUR_SHARE].count()
+    span = last - first + 1
+    sparse = counts[(counts > 0) & (counts < span / 2)]
+    if sparse.empty:
+        return []
+    shown = ", ".join(f"'{quote(str(e), 30)}' ({n} of {span} years)"
+                      for e, n in sparse.iloc[:3].items())
+    more = f" and {len(sparse) - 3} more" if len(sparse) > 3 else ""
+    return [f"column '{col}' (data.columns.{LABOUR_SHARE}): the labour share of {shown}{more} "
+            f"covers fewer than half the years {first}\u2013{last}; each such economy's mean "
+            "rests on the years it has"]
 
 
 def _named(build: Callable[[], T], key: str) -> T:

@@ -57,15 +57,21 @@ def anchor_table(findings: Findings) -> Table | None:
     years = sorted({m.years for m in measured if m.years is not None})
     averaged = ("; within each economy the labour share is averaged over the years "
                 + ", ".join(f"{a}\u2013{b}" for a, b in years) if years else "")
+    independent = any(v.anchor is not None and v.anchor.covariance is None
+                      for _, v in anchored)
     notes = [
-        f"Measured: 1 {MINUS} the labour share the data give, the mean over the economies "
-        f"each equation used that have one, with the standard error of that mean in parentheses; range: its lowest "
-        f"and highest economy{averaged}.",
-        f"Difference: implied {ALPHA} {MINUS} measured, its standard error combining both as "
-        f"if independent; p tests that they are equal. 'Measured lies in': {ALPHA}'s {pct}% "
-        "interval, the plausible band, both or neither.",
+        f"Measured: 1 {MINUS} the labour share the data give, the unweighted mean over the "
+        "economies each equation used that have one (not the capital share of the group's "
+        "total income), with the standard error of that mean in parentheses; range: its "
+        f"lowest and highest economy{averaged}.",
+        f"Difference: implied {ALPHA} {MINUS} measured. Its standard error uses the covariance "
+        "of the two, estimated from each economy's contribution to both"
+        + ("; panel estimators treat them as independent" if independent else "")
+        + ". p tests that they are equal, counting sampling error only. "
+        f"'Measured lies in': {ALPHA}'s {pct}% interval, the plausible band, both or neither.",
         "What the measured share leaves out: income of the self-employed booked as capital "
-        "income raises it, and it holds land and resource rents (see the caveats).",
+        "income raises it, and it holds land and resource rents (see the caveats); these "
+        "errors of measurement can exceed the sampling error the test counts.",
     ]
     cols = ((f"implied {ALPHA}",), ("measured",), ("range",), ("economies",),
             ("difference",), ("p (equal)",), ("measured lies in",))

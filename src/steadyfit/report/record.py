@@ -110,6 +110,7 @@ def _anchor(a: AnchorCheck) -> dict[str, Any]:
         "test": _test(a.test),
         "inside": a.inside,
         "measured_in_band": a.measured_in_band,
+        "covariance": _num(a.covariance) if a.covariance is not None else None,
     }
 
 

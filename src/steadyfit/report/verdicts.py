@@ -88,7 +88,8 @@ def anchor_phrase(a: AnchorCheck, name: str, level: float) -> str:
     side = "above" if gap > 0 else "below"
     word = "significant" if rejects else "not significant"
     return (f"{name} lies {format_number(abs(gap))} {side} {measured}, a difference "
-            f"{word} at the {level:.0%} level ({p_phrase(a.test.pvalue)})")
+            f"{word} at the {level:.0%} level counting sampling error only "
+            f"({p_phrase(a.test.pvalue)})")
 
 
 def speed_phrase(lam: Estimate, half: Estimate) -> str:
@@ -162,19 +163,9 @@ def conclusion(findings: Findings) -> str:
         if None in status:
             text += f" ({status.count(None)} without a verdict)"
         parts.append(text)
-    anchors = [v.anchor.test.rejects(level) for _, v in findings.anchored()
-               if v.anchor is not None]
-    testable = len(anchors) - anchors.count(None)
-    if testable:
-        text = (f"{sum(a is True for a in anchors)} of {testable} implied values of "
-                f"{quantity_label('alpha')} differ significantly from the measured capital "
-                "share")
-        if None in anchors:
-            text += f" ({anchors.count(None)} more cannot be compared)"
-        parts.append(text)
-    elif anchors:
-        parts.append(f"no implied {quantity_label('alpha')} can be held against the measured "
-                     "capital share (no test is available)")
+    anchors = anchor_clause([v for r in findings.results for v in r.shares], level)
+    if anchors:
+        parts.append(anchors)
     if findings.consistency:
         agree = [c.test.rejects(level) for c in findings.consistency]
         testable = len(agree) - agree.count(None)
@@ -198,6 +189,22 @@ def conclusion(findings: Findings) -> str:
     return f"{head}: " + "; ".join(parts) + tail + "."
 
 
+def anchor_clause(shares: list[ShareVerdict], level: float) -> str | None:
+    """How many implied alphas differ from the measured capital share, or None when none is
+    held against it."""
+    outcomes = [v.anchor.test.rejects(level) for v in shares if v.anchor is not None]
+    testable = len(outcomes) - outcomes.count(None)
+    if not testable:
+        return (f"no implied {quantity_label('alpha')} can be held against the measured capital "
+                "share (no test is available)") if outcomes else None
+    text = (f"{sum(o is True for o in outcomes)} of {testable} implied values of "
+            f"{quantity_label('alpha')} differ from the measured capital share at the "
+            f"{level:.0%} level")
+    if None in outcomes:
+        text += f" ({outcomes.count(None)} more cannot be compared)"
+    return text
+
+
 def _panel_clause(findings: Findings, level: float) -> str | None:
     """The panels in a clause: restrictions rejected, GMM estimates outside the
     within-to-pooled bracket, estimators that imply no convergence."""
@@ -212,6 +219,9 @@ def _panel_clause(findings: Findings, level: float) -> str | None:
         parts.append(f"{sum(not b.inside for b in brackets)} of "
                      f"{_count(len(brackets), 'GMM estimate')} of \u03b3 lie outside the "
                      "within-to-pooled bracket")
+    anchors = anchor_clause([v for f in fits for v in f.shares], level)
+    if anchors:
+        parts.append(anchors)
     troubled = sum(f.problem is not None for f in fits)
     if troubled:
         parts.append(f"{troubled} imply no ordinary steady state or convergence")
