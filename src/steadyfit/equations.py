@@ -97,7 +97,10 @@ class VectorMap:
     """A smooth map from a coefficient vector to named quantities, with its Jacobian.
 
     ``value(c)`` returns one entry per name; ``jacobian(c)`` has one row per
-    name and one column per coefficient.
+    name and one column per coefficient.  Both broadcast over trailing axes: with
+    ``c`` of shape ``(k, B)`` (B coefficient vectors, as the batched kernel of
+    :mod:`steadyfit.robust` passes them) ``value`` has shape ``(names, B)`` and
+    ``jacobian`` ``(names, k, B)``.
     """
 
     names: tuple[str, ...]
@@ -120,7 +123,7 @@ class ParameterMap:
 
     forward: VectorMap
     inverse: VectorFn
-    domain: Callable[[Vector], float]
+    domain: Callable[[Vector], Vector]
     problem: Callable[[Vector], str | None]
     shares: tuple[str, ...]
     single: Mapping[str, int] = field(default_factory=dict)
@@ -210,8 +213,13 @@ LN_H = _reg("ln_h")
 
 # --- building blocks: theta is 1 in the levels form, -b_0 (at position p) in the growth form --
 
-def _theta(c: Vector, p: int | None) -> float:
-    return 1.0 if p is None else float(-c[p])
+def _theta(c: Vector, p: int | None) -> Vector | float:
+    return 1.0 if p is None else -c[p]
+
+
+def _zeros(rows: int, size: int, c: Vector) -> Vector:
+    """A Jacobian of zeros for ``c`` (with ``c``'s trailing batch axes)."""
+    return np.zeros((rows, size) + np.shape(c)[1:])
 
 
 def _share_map(names: tuple[str, ...], k: int, h: int | None, size: int, p: int | None,
@@ -222,7 +230,7 @@ def _share_map(names: tuple[str, ...], k: int, h: int | None, size: int, p: int 
     Stock: D = theta + c_k, a = c_k/D, b = c_h/D.
     """
 
-    def denom(c: Vector) -> float:
+    def denom(c: Vector) -> Vector:
         extra = 0.0 if (h is None or stock) else c[h]
         return _theta(c, p) + c[k] + extra
 
@@ -233,7 +241,7 @@ def _share_map(names: tuple[str, ...], k: int, h: int | None, size: int, p: int 
 
     def jac(c: Vector) -> Vector:
         d = denom(c)
-        out = np.zeros((len(names), size))
+        out = _zeros(len(names), size, c)
         ck = c[k]
         # d a / d c_k, d a / d c_h, d a / d b_0 (theta = -b_0, so d theta / d b_0 = -1)
         out[0, k] = (d - ck) / d**2
@@ -257,10 +265,12 @@ def _speed_map(p: int, size: int, span: float | None) -> VectorMap:
     t = span if span else math.nan
 
     def value(c: Vector) -> Vector:
-        return np.array([-math.log1p(c[p]) / t if c[p] > -1 else math.nan])
+        b = np.asarray(c[p], dtype=float)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            return np.array([np.where(b > -1, -np.log1p(np.maximum(b, -1.0)) / t, math.nan)])
 
     def jac(c: Vector) -> Vector:
-        out = np.zeros((1, size))
+        out = _zeros(1, size, c)
         out[0, p] = -1 / ((1 + c[p]) * t)
         return out
 
@@ -274,7 +284,7 @@ def _stack(*maps: VectorMap) -> VectorMap:
 
 
 def _sum_map(m: VectorMap, name: str) -> VectorMap:
-    return VectorMap((name,), lambda c: np.array([m.value(c).sum()]),
+    return VectorMap((name,), lambda c: m.value(c).sum(axis=0, keepdims=True),
                      lambda c: m.jacobian(c).sum(axis=0, keepdims=True))
 
 
@@ -287,7 +297,7 @@ def _from_growth_slope(name: str, n: int, size: int, p: int | None) -> VectorMap
 
     def jac(c: Vector) -> Vector:
         t, b = _theta(c, p), c[n]
-        out = np.zeros((1, size))
+        out = _zeros(1, size, c)
         out[0, n] = -t / (t - b) ** 2
         if p is not None:
             out[0, p] = -b / (t - b) ** 2
@@ -301,7 +311,7 @@ def _take(m: VectorMap, rows: slice) -> VectorMap:
                      lambda c: np.atleast_2d(m.jacobian(c))[rows])
 
 
-def _problem(p: int | None, shares_of: VectorFn, domain: Callable[[Vector], float]
+def _problem(p: int | None, shares_of: VectorFn, domain: Callable[[Vector], Vector]
              ) -> Callable[[Vector], str | None]:
     def problem(c: Vector) -> str | None:
         if p is not None:
@@ -343,8 +353,8 @@ def _build(form: str, capital: tuple[str, ...], span: float | None) -> ModelForm
             forward=speed,
             inverse=lambda q: np.array([-(1 - math.exp(-q[0] * span))]) if span else
             np.array([math.nan]),
-            domain=lambda c: float(min(-c[0], 1 + c[0])),
-            problem=_problem(0, lambda c: np.zeros(1), lambda c: 1.0),
+            domain=lambda c: np.minimum(-c[0], 1 + c[0]),
+            problem=_problem(0, lambda c: np.zeros(1), lambda c: np.ones(np.shape(c)[1:])),
             shares=(),
             single={"lam": 0},
         )
@@ -364,10 +374,11 @@ def _build(form: str, capital: tuple[str, ...], span: float | None) -> ModelForm
     share_fwd = _share_map(names, k_r, h_r, len(res), p, stock)
     forward = _stack(share_fwd, _speed_map(0, len(res), span)) if growth else share_fwd
 
-    def domain(c: Vector) -> float:
+    def domain(c: Vector) -> Vector:
+        """Positive where the slopes imply ordinary parameters (per column of a batch)."""
         extra = 0.0 if (h_r is None or stock) else c[h_r]
         d = _theta(c, p) + c[k_r] + extra
-        return float(min(d, -c[0], 1 + c[0])) if growth else float(d)
+        return np.minimum(d, np.minimum(-c[0], 1 + c[0])) if growth else d + 0.0
 
     def inverse(q: Vector) -> Vector:
         a = q[0]

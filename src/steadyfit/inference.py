@@ -174,7 +174,8 @@ def point_test(est: Estimate, point: float) -> TestResult:
 
 
 def _endpoint_interval(vmap: VectorMap, i: int, c: np.ndarray, j: int, ends: np.ndarray,
-                       domain: Callable[[np.ndarray], float]) -> tuple[float, float] | None:
+                       domain: Callable[[np.ndarray], np.ndarray]
+                       ) -> tuple[float, float] | None:
     """Map the ends of coefficient j's interval through parameter i (monotone in it)."""
     out = []
     for bound in ends:

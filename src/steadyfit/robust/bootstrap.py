@@ -1,0 +1,293 @@
+"""The pairs and wild bootstraps of one equation on one sample, batched.
+
+Draws come in chunks whose size depends on the data alone (:data:`CHUNK_ROWS`),
+chunk ``i`` from the ``i``-th child of
+the seed's :class:`numpy.random.SeedSequence`: the same seed gives the same draws,
+bit for bit, whether chunks run here, in forked processes or on a cluster.
+
+- **Pairs**: economies (or, under cluster covariance, whole clusters) are drawn
+  with replacement; each draw refits the restricted and the unrestricted
+  equation on the drawn rows (:func:`steadyfit.robust.kernel.fit_batch` with
+  resample counts).  The restriction's Wald statistic is recentred at the
+  sample's own restriction value.
+- **Wild**: the restricted fit's residuals are multiplied by random weights
+  (Rademacher: plus or minus one; Mammen's two-point weights), the same weight
+  for every economy of a cluster under cluster covariance; the new responses are
+  refitted.  The data are generated under the restriction, so the unrestricted
+  fits give the restriction test's null distribution directly.
+
+Intervals, from the draws whose parameters are ordinary: percentile;
+bias-corrected (the percentile interval shifted by the share of draws below the
+estimate; no acceleration); studentised (each draw's statistic divided by its own
+delta-method standard error).  The restriction's bootstrap p-value is the share
+of draws whose Wald statistic is at least the sample's, ``(1 + count)/(1 + B)``.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import Literal, get_args
+
+import numpy as np
+import pandas as pd
+from scipy.special import ndtr, ndtri
+
+from ..design import Design
+from ..estimators import CovarianceName, Fit
+from ..findings import EquationFindings, TestResult
+from .kernel import BatchFit, fit_pair, implied_batch
+from .results import BootstrapFindings, BootstrapInterval
+
+BootstrapMethod = Literal["pairs", "wild"]
+WildWeights = Literal["rademacher", "mammen"]
+METHODS: tuple[str, ...] = get_args(BootstrapMethod)
+WILD_WEIGHTS: tuple[str, ...] = get_args(WildWeights)
+# Draws per chunk, the unit of seeding and of parallel work: about 2 million row weights per
+# chunk, between 200 and 5000 draws.  It depends on the data alone, never on the workers.
+CHUNK_ROWS = 2_000_000
+CHUNK_BOUNDS = (200, 5000)
+
+_GOLDEN = math.sqrt(5.0)
+# Mammen's two-point distribution: mean 0, variance 1, third moment 1
+_MAMMEN = (-(_GOLDEN - 1) / 2, (_GOLDEN + 1) / 2)
+_MAMMEN_P = (_GOLDEN + 1) / (2 * _GOLDEN)
+
+
+@dataclass(frozen=True)
+class BootstrapSettings:
+    """What to draw: the method, wild weights, replications, seed and interval level."""
+
+    method: BootstrapMethod = "pairs"
+    weights: WildWeights = "rademacher"
+    replications: int = 1999
+    seed: int = 20261203
+    confidence: float = 0.95
+
+    def chunks(self, rows: int) -> list[int]:
+        """Draws per chunk for data of ``rows`` economies: full chunks, then the rest."""
+        size = int(min(max(CHUNK_ROWS // max(rows, 1), CHUNK_BOUNDS[0]), CHUNK_BOUNDS[1]))
+        full, rest = divmod(self.replications, size)
+        return [size] * full + ([rest] if rest else [])
+
+
+@dataclass(frozen=True, eq=False)
+class Draws:
+    """The statistics of a batch of draws: implied parameters (rows ``names``) and their
+    delta-method standard errors, whether each draw's parameters are ordinary, and the
+    restriction's Wald statistic (NaN without a restriction)."""
+
+    names: tuple[str, ...]
+    value: np.ndarray
+    se: np.ndarray
+    ordinary: np.ndarray
+    wald: np.ndarray
+
+    @staticmethod
+    def join(parts: list[Draws]) -> Draws:
+        return Draws(parts[0].names, np.hstack([p.value for p in parts]),
+                     np.hstack([p.se for p in parts]),
+                     np.concatenate([p.ordinary for p in parts]),
+                     np.concatenate([p.wald for p in parts]))
+
+
+def _codes(design: Design) -> np.ndarray | None:
+    if design.clusters is None:
+        return None
+    return np.asarray(pd.factorize(pd.Series(design.clusters).astype(str))[0])
+
+
+def _wild_weights(rng: np.random.Generator, kind: str, shape: tuple[int, int]) -> np.ndarray:
+    if kind == "rademacher":
+        return rng.choice(np.array([-1.0, 1.0]), size=shape)
+    return np.where(rng.uniform(size=shape) < _MAMMEN_P, _MAMMEN[0], _MAMMEN[1])
+
+
+def _wald(design: Design, unres: BatchFit, centre: float) -> np.ndarray:
+    """(R b - centre)^2 / (R V R') for every draw (NaN without a restriction)."""
+    r = design.restriction[0]
+    if not r.any():
+        return np.full(unres.draws, np.nan)
+    value = unres.coef @ r - centre
+    var = np.einsum("i,bij,j->b", r, unres.cov, r)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(var > 0, value ** 2 / var, np.nan)
+
+
+def draw_chunk(design: Design, restricted: Fit, unrestricted: Fit, covariance: CovarianceName,
+               settings: BootstrapSettings, index: int) -> Draws:
+    """Chunk ``index`` of the bootstrap of one cell (see the module docstring)."""
+    size = settings.chunks(len(design.y))[index]
+    rng = np.random.default_rng(np.random.SeedSequence(settings.seed).spawn(index + 1)[index])
+    codes = _codes(design)
+    x_r, x_u, y = design.x_restricted, design.x_unrestricted, design.y
+    n = len(y)
+    if settings.method == "pairs":
+        if codes is not None:
+            groups = int(codes.max()) + 1
+            counts = _counts(rng.integers(0, groups, size=(size, groups)), groups)
+            unres, res = fit_pair(x_u, x_r, y, covariance, clusters=codes,
+                                  cluster_counts=counts)
+        else:
+            counts = _counts(rng.integers(0, n, size=(size, n)), n)
+            unres, res = fit_pair(x_u, x_r, y, covariance, weights=counts, clusters=codes)
+        centre = float(unrestricted.coef @ design.restriction[0])
+    else:
+        groups = n if codes is None else int(codes.max()) + 1
+        v = _wild_weights(rng, settings.weights, (size, groups))
+        v = v if codes is None else v[:, codes]
+        ys = restricted.fitted[None, :] + restricted.resid[None, :] * v
+        unres, res = fit_pair(x_u, x_r, y, covariance, responses=ys, clusters=codes)
+        centre = 0.0
+    implied = implied_batch(design.form, res)
+    return Draws(implied.names, implied.value, implied.se, implied.ordinary,
+                 _wald(design, unres, centre))
+
+
+def _counts(drawn: np.ndarray, size: int) -> np.ndarray:
+    """How often each of ``size`` units appears in each row of ``drawn``."""
+    rows = drawn.shape[0]
+    flat = (drawn + size * np.arange(rows)[:, None]).ravel()
+    return np.bincount(flat, minlength=rows * size).reshape(rows, size).astype(float)
+
+
+Runner = Callable[[list[Callable[[], Draws]]], list[Draws]]
+
+
+def run_draws(design: Design, restricted: Fit, unrestricted: Fit, covariance: CovarianceName,
+              settings: BootstrapSettings, runner: Runner | None = None) -> Draws:
+    """Every chunk of the bootstrap through ``runner`` (default: here, in order)."""
+    jobs: list[Callable[[], Draws]] = [
+        _Job(design, restricted, unrestricted, covariance, settings, i)
+        for i in range(len(settings.chunks(len(design.y))))]
+    parts = runner(jobs) if runner is not None else [job() for job in jobs]
+    return Draws.join(parts)
+
+
+@dataclass(frozen=True, eq=False)
+class _Job:
+    """One chunk as a picklable call (for forked processes and remote workers)."""
+
+    design: Design
+    restricted: Fit
+    unrestricted: Fit
+    covariance: CovarianceName
+    settings: BootstrapSettings
+    index: int
+
+    def __call__(self) -> Draws:
+        return draw_chunk(self.design, self.restricted, self.unrestricted, self.covariance,
+                          self.settings, self.index)
+
+
+# --- intervals --------------------------------------------------------------------------------
+
+
+def percentile_interval(draws: np.ndarray, confidence: float) -> tuple[float, float]:
+    tail = (1 - confidence) / 2
+    lo, hi = np.quantile(draws, [tail, 1 - tail])
+    return float(lo), float(hi)
+
+
+def bias_corrected_interval(draws: np.ndarray, estimate: float, confidence: float
+                            ) -> tuple[float, float] | None:
+    """The percentile interval at levels shifted by ``z0 = Phi^-1(share of draws below the
+    estimate)``; None where every draw lies on one side of it."""
+    below = float(np.mean(draws < estimate))
+    if below in (0.0, 1.0):
+        return None
+    z0 = float(ndtri(below))
+    z = float(ndtri(0.5 + confidence / 2))
+    levels = ndtr(np.array([2 * z0 - z, 2 * z0 + z]))
+    lo, hi = np.quantile(draws, levels)
+    return float(lo), float(hi)
+
+
+def studentised_interval(draws: np.ndarray, draw_se: np.ndarray, estimate: float, se: float,
+                         confidence: float) -> tuple[float, float] | None:
+    """``[est - q_hi se, est - q_lo se]`` from the quantiles of ``(draw - est)/draw_se``;
+    None without a finite standard error."""
+    ok = np.isfinite(draw_se) & (draw_se > 0)
+    if not (math.isfinite(se) and se > 0) or ok.sum() < 2:
+        return None
+    t = (draws[ok] - estimate) / draw_se[ok]
+    tail = (1 - confidence) / 2
+    q_lo, q_hi = np.quantile(t, [tail, 1 - tail])
+    return float(estimate - q_hi * se), float(estimate - q_lo * se)
+
+
+# --- summary -----------------------------------------------------------------------------------
+
+
+def _quantity_draws(draws: Draws, name: str) -> tuple[np.ndarray, np.ndarray]:
+    """A quantity's draws and their standard errors; the half-life maps lambda's
+    (``ln 2 / lam``, standard error ``ln 2 / lam^2`` times lambda's)."""
+    if name == "half_life":
+        i = draws.names.index("lam")
+        lam, se = draws.value[i], draws.se[i]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return math.log(2) / lam, math.log(2) / lam ** 2 * se
+    i = draws.names.index(name)
+    return draws.value[i], draws.se[i]
+
+
+def summarise(draws: Draws, found: EquationFindings, settings: BootstrapSettings,
+              by_cluster: bool) -> BootstrapFindings:
+    """Intervals of every implied quantity of ``found`` and the restriction's bootstrap
+    p-value, from the draws (see the module docstring)."""
+    level = settings.confidence
+    tail = (1 - level) / 2
+    total = len(draws.ordinary)
+    ok = draws.ordinary
+    failed = int(total - ok.sum())
+    estimates = {v.estimate.name: v.estimate for v in found.shares}
+    estimates.update({e.name: e for e in found.speed})
+    names = [*draws.names, *(("half_life",) if "lam" in draws.names else ())]
+    rows = []
+    for name in names:
+        est = estimates.get(name)
+        if est is None or not est.has_value:
+            why = found.problem or (est.reason if est is not None else None) or "not estimated"
+            rows.append(BootstrapInterval(name, math.nan, math.nan, None, None, None,
+                                          f"no estimate to bootstrap ({why})"))
+            continue
+        values, ses = _quantity_draws(draws, name)
+        v, s = values[ok], ses[ok]
+        spread = float(np.std(v, ddof=1)) if len(v) > 1 else math.nan
+        if failed > tail * total or len(v) < 2:
+            rows.append(BootstrapInterval(
+                name, est.value, spread, None, None, None,
+                f"{failed} of {total} draws imply no steady state or no convergence, more than "
+                f"the {tail:.1%} each end of the interval rests on"))
+            continue
+        se = est.se if est.has_se else math.nan
+        student = studentised_interval(v, s, est.value, se, level)
+        bias = bias_corrected_interval(v, est.value, level)
+        reasons = [why for why, missing in (
+            ("the estimate has no standard error, so no studentised interval", student is None),
+            ("every draw lies on one side of the estimate, so no bias-corrected interval",
+             bias is None)) if missing]
+        rows.append(BootstrapInterval(name, est.value, spread, percentile_interval(v, level),
+                                      bias, student, "; ".join(reasons) or None))
+    return BootstrapFindings(settings.method,
+                             settings.weights if settings.method == "wild" else None,
+                             by_cluster, total, settings.seed, level, int(ok.sum()),
+                             tuple(rows), _restriction(draws, found))
+
+
+def _restriction(draws: Draws, found: EquationFindings) -> TestResult | None:
+    """The sample's Wald statistic against its bootstrap distribution."""
+    observed = found.wald_test
+    if observed is None:
+        return None
+    name = "bootstrap Wald test of the restriction"
+    if not observed.available:
+        return TestResult.not_available(name, observed.null, observed.reason or "no statistic",
+                                        "bootstrap")
+    finite = draws.wald[np.isfinite(draws.wald)]
+    if len(finite) == 0:
+        return TestResult.not_available(name, observed.null, "no draw gave a Wald statistic",
+                                        "bootstrap")
+    p = (1 + int(np.sum(finite >= observed.statistic))) / (1 + len(finite))
+    return TestResult(name, observed.statistic, p, (), "bootstrap", observed.null)
