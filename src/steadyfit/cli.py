@@ -41,6 +41,12 @@ def _parser() -> argparse.ArgumentParser:
     run.add_argument("--quiet", action="store_true", help="print only the run folder's path")
     run.add_argument("--strict", action="store_true",
                      help="exit with status 3 when a replication target is missed")
+    run.add_argument("--workers", type=_workers, default=1, metavar="N",
+                     help="processes for the bootstrap's draws (default 1; results are the "
+                          "same for any number)")
+    run.add_argument("--scheduler", default=None, metavar="ADDRESS",
+                     help="run the bootstrap's draws on this Dask scheduler "
+                          "(tcp://host:port; needs the optional 'distributed' package)")
 
     check = sub.add_parser("check", help="validate a spec and its data without estimating")
     check.add_argument("spec", type=Path, help="the TOML spec")
@@ -70,14 +76,26 @@ def _parser() -> argparse.ArgumentParser:
     return p
 
 
-def _run(spec_path: Path, out: Path | None, quiet: bool, strict: bool = False) -> int:
+def _workers(text: str) -> int:
+    try:
+        n = int(text)
+    except ValueError:
+        n = 0
+    if not 1 <= n <= 256:
+        raise argparse.ArgumentTypeError(f"a whole number from 1 to 256, not '{text}'")
+    return n
+
+
+def _run(spec_path: Path, out: Path | None, quiet: bool, strict: bool = False,
+         workers: int = 1, scheduler: str | None = None) -> int:
     from .pipeline import default_output_root, run
     from .report.runfolder import write_run
     from .report.text import render_text, terminal
+    from .robust.execute import Execution
     from .spec import load_spec
 
     spec = load_spec(spec_path)
-    findings = run(spec)
+    findings = run(spec, Execution(workers, scheduler, not quiet and sys.stderr.isatty()))
     for w in findings.warnings:
         print(f"warning: {w}", file=sys.stderr)
     folder = write_run(findings, out if out is not None else default_output_root(spec),
@@ -211,7 +229,8 @@ def main(argv: Sequence[str] | None = None) -> int:
         previous_int = signal.signal(signal.SIGINT, _on_sigint)
     try:
         if args.command == "run":
-            return _run(args.spec, args.out, args.quiet, args.strict)
+            return _run(args.spec, args.out, args.quiet, args.strict, args.workers,
+                        args.scheduler)
         if args.command == "check":
             return _check(args.spec)
         if args.command == "compare":

@@ -183,6 +183,10 @@ def record_verdicts(record: dict[str, Any]) -> dict[tuple[str, str, str], Verdic
                           ("rejected", "not rejected"), at)
         if f is not None:
             out[(*cell, "restriction (F test)")] = f
+        boot = _test_verdict((r.get("bootstrap") or {}).get("restriction"), level,
+                             ("rejected", "not rejected"), at)
+        if boot is not None:
+            out[(*cell, "restriction (bootstrap)")] = boot
         for share in r.get("implied_shares", []):
             if share.get("band") is not None:
                 status = share.get("band_status") or NOT_AVAILABLE

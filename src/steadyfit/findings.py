@@ -19,6 +19,7 @@ from .labels import DisplayLabels, display
 
 if TYPE_CHECKING:
     from .panel.results import PanelFindings
+    from .robust.results import BootstrapFindings
 
 BandStatus = Literal["inside", "overlaps", "outside"]
 # how a test's p-value is read: from F, chi-square or normal tails, or from bootstrap draws
@@ -285,6 +286,7 @@ class EquationFindings:
     nonlinear: NonlinearFit | None = None
     equation_label: str | None = None  # display labels from the spec's [labels]
     sample_label: str | None = None
+    bootstrap: BootstrapFindings | None = None  # with [bootstrap]
 
     @property
     def steady_state(self) -> bool:

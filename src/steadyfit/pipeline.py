@@ -36,6 +36,7 @@ from .inference import implied_parameters, restriction_tests, unrestricted_share
 from .labels import DisplayLabels
 from .panel.results import PanelFindings
 from .quantities import panel_quantities, quantities, unavailable
+from .robust.execute import Execution
 from .spec import Spec, load_spec
 from .structural import minimum_distance, nonlinear_least_squares
 
@@ -255,18 +256,30 @@ def caveats(spec: Spec, table: EconomyTable) -> tuple[str, ...]:
                    "AR(2), over-identification and bracket checks probe but cannot prove.")
     if b.data.columns.labour_share is not None:
         out.append(MEASURED_SHARE_CAVEAT)
+    if b.bootstrap is not None:
+        what = ("economies (whole clusters under cluster covariance) with replacement"
+                if b.bootstrap.method == "pairs" else
+                "the restricted fit's residuals times random signs (one per cluster under "
+                "cluster covariance), so the data obey the restriction")
+        out.append(f"Bootstrap intervals redraw {what}, {b.bootstrap.replications} times with "
+                   f"seed {b.bootstrap.seed}; they treat the economies (or clusters) as "
+                   "independent draws from one population, which a cross-section of countries "
+                   "is not, and they say nothing about errors in the data themselves.")
     out.append("Cross-country regressions describe associations across economies; they do not "
                "by themselves say what a policy would do in any one of them.")
     return tuple(out)
 
 
-def run(spec: Spec | str | Path) -> Findings:
+def run(spec: Spec | str | Path, execution: Execution | None = None) -> Findings:
     """Estimate every equation on every sample of ``spec`` and return the findings.
 
     Parameters
     ----------
     spec
         A :class:`~steadyfit.spec.Spec` or the path of a TOML spec.
+    execution
+        Where the robustness analyses' jobs run (local workers, a Dask scheduler) and
+        whether a progress bar shows; default: here, without a bar.
     """
     from .analysis import build_analysis
 
@@ -282,6 +295,10 @@ def run(spec: Spec | str | Path) -> Findings:
                            equation_label=labels.equations.get(cell.equation),
                            sample_label=labels.samples.get(cell.sample))
                    for cell in p.panels)
+    if p.spec.body.bootstrap is not None:
+        from .robust.cells import bootstrap_cells
+
+        results = bootstrap_cells(p, results, settings, execution or Execution())
     seen: dict[str, SampleSummary] = {}
     for cell in p.cells:
         sel = cell.selection

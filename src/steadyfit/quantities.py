@@ -25,6 +25,9 @@ same way:
 ``md_<p>``             minimum-distance estimate (and ``_se``); ``md_overid``,
                        ``md_overid_p`` the over-identification test
 ``nls_<p>``            nonlinear least squares (``_se`` classical, ``_robust_se``)
+``<q>_percentile_low``  with ``[bootstrap]``: each quantity's bootstrap intervals (``_high``;
+                       ``_bias_corrected_``, ``_studentised_`` likewise), ``<q>_bootstrap_sd``
+                       the draws' standard deviation, ``restriction_bootstrap_p``
 ``measured_capital_``  ``measured_capital_share``: one minus the mean labour share of the
 ``share``              economies used (``_se`` of that mean), where the data carry one;
                        ``alpha_gap`` implied alpha minus it (``_se``), ``alpha_gap_p`` the
@@ -204,6 +207,17 @@ def _collect(r: EquationFindings) -> tuple[dict[str, float | None], dict[str, st
             put(name, value, reason)
     for e in r.unrestricted_shares:
         put_estimate(f"unrestricted_{e.name}", e, interval=False)
+    b = r.bootstrap
+    if b is not None:
+        for i in b.intervals:
+            put(f"{i.name}_bootstrap_sd", i.spread, i.reason)
+            for kind, pair in (("percentile", i.percentile), ("bias_corrected", i.bias_corrected),
+                               ("studentised", i.studentised)):
+                for end, value in zip(("low", "high"), pair or (math.nan, math.nan),
+                                      strict=True):
+                    put(f"{i.name}_{kind}_{end}", value, i.reason)
+        if b.restriction is not None:
+            put("restriction_bootstrap_p", b.restriction.pvalue, b.restriction.reason)
     c = r.crosscheck
     if c is not None:
         put("crosscheck_gap", c.gap.value, c.gap.reason)

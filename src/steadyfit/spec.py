@@ -29,6 +29,7 @@ from .errors import InputError, did_you_mean, quote
 from .estimators import CovarianceName
 from .panel.methods import METHODS, Method
 from .quantities import canonical, quantity_names
+from .robust.choices import BootstrapMethod, WildWeights
 from .tomlinput import MAX_DEPTH, read_toml, too_deep, validate
 
 Unit = Literal["percent", "fraction"]
@@ -276,6 +277,16 @@ class TargetSpec(Record):
         return canonical(v)
 
 
+class BootstrapSpec(Record):
+    """The bootstrap of every cross-section equation and sample (or of ``equations``)."""
+
+    replications: int = Field(1999, ge=99, le=1_000_000)
+    method: BootstrapMethod = "pairs"
+    wild_weights: WildWeights = "rademacher"
+    seed: int = Field(20261203, ge=0, lt=2**63)
+    equations: tuple[str, ...] | None = None
+
+
 class SpecBody(Record):
     title: str = "steadyfit run"
     data: DataSpec
@@ -289,6 +300,7 @@ class SpecBody(Record):
     report: ReportSpec = Field(default_factory=ReportSpec)
     labels: LabelSpec = Field(default_factory=LabelSpec)
     target: tuple[TargetSpec, ...] = ()
+    bootstrap: BootstrapSpec | None = None
 
     @field_validator("samples")
     @classmethod
@@ -328,6 +340,15 @@ class SpecBody(Record):
                 raise ValueError(f"equation[{i}]: form '{form.key}' needs assumptions.span_years")
         equations_by_name = {e.name: e for e in self.equation}
         self._check_labels(equations_by_name)
+        if self.bootstrap is not None:
+            for name in self.bootstrap.equations or ():
+                chosen = equations_by_name.get(name)
+                if chosen is None:
+                    raise ValueError(f"bootstrap.equations: unknown equation '{quote(name)}'"
+                                     f"{did_you_mean(name, equations_by_name)}")
+                if chosen.form == "panel":
+                    raise ValueError(f"bootstrap.equations: '{name}' is a panel equation; the "
+                                     "bootstrap covers cross-section equations")
         for i, t in enumerate(self.target, 1):
             target_eq = equations_by_name.get(t.equation)
             if target_eq is None:

@@ -130,9 +130,10 @@ def report_tables(findings: Findings) -> list[Table]:
     shares, then per form the unrestricted and restricted fits side by side, then the
     unrestricted cross-check and the structural estimates."""
     from .anchor import anchor_table
+    from .robustness import bootstrap_table
 
-    anchor = anchor_table(findings)
-    out = [shares_table(findings), *((anchor,) if anchor else ())]
+    extra = [t for t in (anchor_table(findings), bootstrap_table(findings)) if t is not None]
+    out = [shares_table(findings), *extra]
     out += [combined_table(findings, res, suffix, title)
             for suffix, title, res in families(findings)]
     if any(r.crosscheck for r in findings.results):

@@ -24,6 +24,7 @@ from ..findings import (
 )
 from ..panel.results import PanelFindings, PanelFit
 from ..quantities import canonical, panel_quantities, quantities, unavailable
+from ..robust.results import BootstrapFindings
 
 # 2: "reason" beside every number that is not available.
 # 3: keys in steadyfit's own words: a fit's nobs, df_resid, r2, adj_r2, ser and ssr became
@@ -155,6 +156,25 @@ def _result(r: EquationFindings, confidence: float) -> dict[str, Any]:
             "evaluations": r.nonlinear.evaluations},
         "quantities": {k: _num(v) for k, v in quantities(r).items()},
         "unavailable": unavailable(r),
+        "bootstrap": None if r.bootstrap is None else _bootstrap(r.bootstrap),
+    }
+
+
+def _pair(pair: tuple[float, float] | None) -> list[float | None] | None:
+    return None if pair is None else [_num(pair[0]), _num(pair[1])]
+
+
+def _bootstrap(b: BootstrapFindings) -> dict[str, Any]:
+    return {
+        "method": b.method, "weights": b.weights, "by_cluster": b.by_cluster,
+        "replications": b.replications, "seed": b.seed, "confidence": b.confidence,
+        "ordinary_draws": b.ordinary,
+        "intervals": [{"name": i.name, "estimate": _num(i.estimate), "spread": _num(i.spread),
+                       "percentile": _pair(i.percentile),
+                       "bias_corrected": _pair(i.bias_corrected),
+                       "studentised": _pair(i.studentised), "reason": i.reason}
+                      for i in b.intervals],
+        "restriction": _test(b.restriction) if b.restriction is not None else None,
     }
 
 

@@ -556,10 +556,10 @@ def all_tables(findings: Findings) -> tuple[Table, ...]:
     card = scorecard_table(findings)
     groups = families(findings)
     from .anchor import anchor_table
+    from .robustness import bootstrap_table
 
-    anchor = anchor_table(findings)
-    out: list[Table] = [*((card,) if card else ()), shares_table(findings),
-                        *((anchor,) if anchor else ())]
+    extra = [t for t in (anchor_table(findings), bootstrap_table(findings)) if t is not None]
+    out: list[Table] = [*((card,) if card else ()), shares_table(findings), *extra]
     out += [journal_table(findings, res, suffix, title) for suffix, title, res in groups]
     for restricted in (False, True):
         out += [coefficient_table(findings, restricted, res, suffix) for suffix, _, res in groups]

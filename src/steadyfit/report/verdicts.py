@@ -92,6 +92,29 @@ def anchor_phrase(a: AnchorCheck, name: str, level: float) -> str:
             f"({p_phrase(a.test.pvalue)})")
 
 
+def bootstrap_phrase(r: EquationFindings, level: float) -> str:
+    """The bootstrap in words: its kind, the restriction's bootstrap verdict and each share's
+    percentile interval (or why there is none)."""
+    b = r.bootstrap
+    assert b is not None
+    words = [f"{b.method} bootstrap ({b.replications} draws)"]
+    t = b.restriction
+    if t is not None:
+        rejects = t.rejects(level)
+        words.append(f"restriction not tested ({t.reason})" if rejects is None else
+                     f"restriction {'rejected' if rejects else 'not rejected'} at the "
+                     f"{level:.0%} level (bootstrap {p_phrase(t.pvalue)})")
+    for i in b.intervals:
+        if i.name not in ("alpha", "beta", "lam"):
+            continue
+        name = quantity_label(i.name)
+        digits = 4 if i.name == "lam" else 3
+        words.append(f"{name} percentile interval {format_number(i.percentile[0], digits)} to "
+                     f"{format_number(i.percentile[1], digits)}" if i.percentile is not None
+                     else f"no bootstrap interval for {name} ({i.reason})")
+    return words[0] + ": " + ", ".join(words[1:]) if len(words) > 1 else words[0]
+
+
 def speed_phrase(lam: Estimate, half: Estimate) -> str:
     """The speed of convergence and half-life in words (divergence said as such)."""
     if not lam.has_value:
@@ -131,6 +154,8 @@ def verdict_lines(findings: Findings) -> tuple[str, ...]:
         lam, half = r.speed_estimate("lam"), r.speed_estimate("half_life")
         if lam is not None and half is not None:
             parts.append(speed_phrase(lam, half))
+        if r.bootstrap is not None:
+            parts.append(bootstrap_phrase(r, level))
         text = "; ".join(parts)
         first = text[:1].upper() if text[:1].isascii() else text[:1]  # never 'Α' for 'α'
         out.append(f"{head} {first}{text[1:]}." if parts else head)
@@ -251,5 +276,5 @@ def consistency_lines(findings: Findings) -> tuple[str, ...]:
     return tuple(out)
 
 
-__all__ = ["anchor_phrase", "conclusion", "consistency_lines", "format_p", "measured_words",
-           "p_phrase", "restriction_phrase", "speed_phrase", "verdict_lines"]
+__all__ = ["anchor_phrase", "bootstrap_phrase", "conclusion", "consistency_lines", "format_p",
+           "measured_words", "p_phrase", "restriction_phrase", "speed_phrase", "verdict_lines"]

@@ -28,7 +28,6 @@ from __future__ import annotations
 import math
 from collections.abc import Callable
 from dataclasses import dataclass
-from typing import Literal, get_args
 
 import numpy as np
 import pandas as pd
@@ -37,13 +36,10 @@ from scipy.special import ndtr, ndtri
 from ..design import Design
 from ..estimators import CovarianceName, Fit
 from ..findings import EquationFindings, TestResult
-from .kernel import BatchFit, fit_pair, implied_batch
+from .choices import BootstrapMethod, WildWeights
+from .kernel import BatchFit, classical_pair_in_blocks, fit_pair, implied_batch
 from .results import BootstrapFindings, BootstrapInterval
 
-BootstrapMethod = Literal["pairs", "wild"]
-WildWeights = Literal["rademacher", "mammen"]
-METHODS: tuple[str, ...] = get_args(BootstrapMethod)
-WILD_WEIGHTS: tuple[str, ...] = get_args(WildWeights)
 # Draws per chunk, the unit of seeding and of parallel work: about 2 million row weights per
 # chunk, between 200 and 5000 draws.  It depends on the data alone, never on the workers.
 CHUNK_ROWS = 2_000_000
@@ -107,7 +103,7 @@ def _wild_weights(rng: np.random.Generator, kind: str, shape: tuple[int, int]) -
 def _wald(design: Design, unres: BatchFit, centre: float) -> np.ndarray:
     """(R b - centre)^2 / (R V R') for every draw (NaN without a restriction)."""
     r = design.restriction[0]
-    if not r.any():
+    if not design.form.restricts:
         return np.full(unres.draws, np.nan)
     value = unres.coef @ r - centre
     var = np.einsum("i,bij,j->b", r, unres.cov, r)
@@ -130,9 +126,13 @@ def draw_chunk(design: Design, restricted: Fit, unrestricted: Fit, covariance: C
             unres, res = fit_pair(x_u, x_r, y, covariance, clusters=codes,
                                   cluster_counts=counts)
         else:
-            counts = _counts(rng.integers(0, n, size=(size, n)), n)
-            unres, res = fit_pair(x_u, x_r, y, covariance, weights=counts, clusters=codes)
-        centre = float(unrestricted.coef @ design.restriction[0])
+            blocks = [_counts(rng.integers(0, n, size=(m, n)), n) for m in _blocks(size, n)]
+            fitted = (classical_pair_in_blocks(x_u, x_r, y, blocks)
+                      if covariance == "classical" else None)
+            unres, res = fitted or fit_pair(x_u, x_r, y, covariance, weights=np.vstack(blocks),
+                                            clusters=codes)
+        centre = (float(unrestricted.coef @ design.restriction[0]) if design.form.restricts
+                  else 0.0)
     else:
         groups = n if codes is None else int(codes.max()) + 1
         v = _wild_weights(rng, settings.weights, (size, groups))
@@ -145,22 +145,38 @@ def draw_chunk(design: Design, restricted: Fit, unrestricted: Fit, covariance: C
                  _wald(design, unres, centre))
 
 
+# draws per block when counting resamples: about 50,000 counts, which stay in cache
+BLOCK_COUNTS = 50_000
+
+
+def _blocks(draws: int, units: int) -> list[int]:
+    """Draws per block for ``units`` resampled units (see :data:`BLOCK_COUNTS`)."""
+    step = max(1, BLOCK_COUNTS // units)
+    return [min(step, draws - start) for start in range(0, draws, step)]
+
+
 def _counts(drawn: np.ndarray, size: int) -> np.ndarray:
-    """How often each of ``size`` units appears in each row of ``drawn``."""
+    """How often each of ``size`` units appears in each row of ``drawn`` (which it
+    overwrites)."""
     rows = drawn.shape[0]
-    flat = (drawn + size * np.arange(rows)[:, None]).ravel()
-    return np.bincount(flat, minlength=rows * size).reshape(rows, size).astype(float)
+    drawn += size * np.arange(rows)[:, None]
+    return np.bincount(drawn.ravel(), minlength=rows * size).reshape(rows, size).astype(float)
 
 
 Runner = Callable[[list[Callable[[], Draws]]], list[Draws]]
 
 
+def draw_jobs(design: Design, restricted: Fit, unrestricted: Fit, covariance: CovarianceName,
+              settings: BootstrapSettings) -> list[Callable[[], Draws]]:
+    """One picklable job per chunk of the bootstrap of one cell."""
+    return [_Job(design, restricted, unrestricted, covariance, settings, i)
+            for i in range(len(settings.chunks(len(design.y))))]
+
+
 def run_draws(design: Design, restricted: Fit, unrestricted: Fit, covariance: CovarianceName,
               settings: BootstrapSettings, runner: Runner | None = None) -> Draws:
     """Every chunk of the bootstrap through ``runner`` (default: here, in order)."""
-    jobs: list[Callable[[], Draws]] = [
-        _Job(design, restricted, unrestricted, covariance, settings, i)
-        for i in range(len(settings.chunks(len(design.y))))]
+    jobs = draw_jobs(design, restricted, unrestricted, covariance, settings)
     parts = runner(jobs) if runner is not None else [job() for job in jobs]
     return Draws.join(parts)
 
@@ -177,8 +193,9 @@ class _Job:
     index: int
 
     def __call__(self) -> Draws:
-        return draw_chunk(self.design, self.restricted, self.unrestricted, self.covariance,
-                          self.settings, self.index)
+        with np.errstate(all="ignore"):  # a degenerate draw gives NaN and counts as such
+            return draw_chunk(self.design, self.restricted, self.unrestricted,
+                              self.covariance, self.settings, self.index)
 
 
 # --- intervals --------------------------------------------------------------------------------

@@ -104,7 +104,7 @@ def _on_dask(jobs: list[Callable[[], T]], address: str, bar: _Bar) -> list[T]:
         raise InputError("running on a Dask scheduler needs the optional package "
                          "'distributed' (pip install \"steadyfit[distributed]\")",
                          "--scheduler") from None
-    with Client(address, set_as_default=False) as client:
+    with Client(address) as client:
         futures = client.map(_call, jobs, pure=False)
         order = {f.key: i for i, f in enumerate(futures)}
         out: list[Any] = [None] * len(jobs)

@@ -21,6 +21,7 @@ broadcast over draws: nothing here knows a form's formulas.
 
 from __future__ import annotations
 
+from collections.abc import Iterable
 from dataclasses import dataclass
 
 import numpy as np
@@ -66,29 +67,39 @@ def _outer_rows(x: np.ndarray) -> np.ndarray:
 def batch_inverse(a: np.ndarray) -> np.ndarray:
     """Inverses of a batch of symmetric positive definite matrices, shape (B, k, k).
 
-    A Cholesky factorisation written as vector operations over the batch (a loop over the
-    k <= 6 rows and columns only): for the small cross-product matrices of these designs it
-    is an order of magnitude faster than looping LAPACK over the batch.  A matrix that is not
-    positive definite gives NaN in its place.
+    A Cholesky factorisation written entry by entry, each entry a vector over the batch:
+    for the small cross-product matrices of these designs (k of 6 or fewer) it is an order
+    of magnitude faster than looping LAPACK over the batch.  A matrix that is not positive
+    definite gives NaN in its place.
     """
     k = a.shape[1]
     m = np.ascontiguousarray(np.moveaxis(a, 0, -1))  # (k, k, B): each entry a vector
-    chol = np.zeros_like(m)
+    chol: list[list[np.ndarray]] = [[np.zeros(0)] * k for _ in range(k)]
+    low: list[list[np.ndarray]] = [[np.zeros(0)] * k for _ in range(k)]
     with np.errstate(invalid="ignore", divide="ignore"):
         for j in range(k):
-            diag = m[j, j] - np.einsum("mb,mb->b", chol[j, :j], chol[j, :j])
-            chol[j, j] = np.sqrt(np.where(diag > 0, diag, np.nan))
+            diag = m[j, j] - sum((chol[j][q] * chol[j][q] for q in range(j)),
+                                 start=np.zeros(m.shape[2]))
+            chol[j][j] = np.sqrt(np.where(diag > 0, diag, np.nan))
             for i in range(j + 1, k):
-                dot = np.einsum("mb,mb->b", chol[i, :j], chol[j, :j])
-                chol[i, j] = (m[i, j] - dot) / chol[j, j]
+                dot = sum((chol[i][q] * chol[j][q] for q in range(j)),
+                          start=np.zeros(m.shape[2]))
+                chol[i][j] = (m[i, j] - dot) / chol[j][j]
         # the inverse of the lower factor by forward substitution
-        low = np.zeros_like(m)
         for i in range(k):
-            low[i, i] = 1.0 / chol[i, i]
+            low[i][i] = 1.0 / chol[i][i]
             for j in range(i):
-                low[i, j] = -np.einsum("mb,mb->b", chol[i, j:i], low[j:i, j]) / chol[i, i]
-    inv = np.einsum("mib,mjb->ijb", low, low)  # L^-T L^-1
-    return np.ascontiguousarray(np.moveaxis(inv, -1, 0))
+                dot = sum((chol[i][q] * low[q][j] for q in range(j, i)),
+                          start=np.zeros(m.shape[2]))
+                low[i][j] = -dot / chol[i][i]
+    out = np.empty((a.shape[0], k, k))
+    for i in range(k):  # (L^-T L^-1)[i, j] = sum over q >= max(i, j) of low[q][i] low[q][j]
+        for j in range(i + 1):
+            entry = sum((low[q][i] * low[q][j] for q in range(i, k)),
+                        start=np.zeros(m.shape[2]))
+            out[:, i, j] = entry
+            out[:, j, i] = entry
+    return out
 
 
 def fit_batch(x: np.ndarray, y: np.ndarray, covariance: CovarianceName = "classical", *,
@@ -194,12 +205,17 @@ def fit_batch(x: np.ndarray, y: np.ndarray, covariance: CovarianceName = "classi
     return BatchFit(coef, cov, ssr, nobs, covariance, n_clusters)
 
 
-def _products(x: np.ndarray, y: np.ndarray, w: np.ndarray
+def _row_products(x: np.ndarray, y: np.ndarray) -> np.ndarray:
+    """Each row's ``x x'`` (flattened), ``x y``, ``y^2`` and 1: what every sum needs."""
+    return np.column_stack([_outer_rows(x), x * y[:, None], y ** 2, np.ones(len(y))])
+
+
+def _products(x: np.ndarray, y: np.ndarray, w: np.ndarray, rows: np.ndarray | None = None
               ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """Every draw's X'WX (B, k, k), X'Wy (B, k), y'Wy and sum of weights, from one product of
-    the weights with the rows' cross-products."""
-    n, k = x.shape
-    stats = w @ np.column_stack([_outer_rows(x), x * y[:, None], y ** 2, np.ones(n)])
+    the weights with the rows' cross-products (``rows``, when already at hand)."""
+    k = x.shape[1]
+    stats = w @ (_row_products(x, y) if rows is None else rows)
     return (stats[:, :k * k].reshape(-1, k, k), stats[:, k * k:k * k + k], stats[:, -2],
             stats[:, -1])
 
@@ -242,9 +258,32 @@ def fit_pair(unrestricted: np.ndarray, restricted: np.ndarray, y: np.ndarray,
                   cluster_counts=cluster_counts)
         return (fit_batch(unrestricted, y, covariance, **kw),  # type: ignore[arg-type]
                 fit_batch(restricted, y, covariance, **kw))  # type: ignore[arg-type]
-    xtx, xty, yty, nobs = _products(unrestricted, y, np.asarray(weights, dtype=float))
+    return _both_classical(_products(unrestricted, y, np.asarray(weights, dtype=float)), t)
+
+
+def _both_classical(products: tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray],
+                    t: np.ndarray) -> tuple[BatchFit, BatchFit]:
+    xtx, xty, yty, nobs = products
     return (_classical(xtx, xty, yty, nobs),
-            _classical(np.einsum("ia,bij,jc->bac", t, xtx, t), xty @ t, yty, nobs))
+            _classical(t.T @ xtx @ t, xty @ t, yty, nobs))
+
+
+def classical_pair_in_blocks(unrestricted: np.ndarray, restricted: np.ndarray, y: np.ndarray,
+                             blocks: Iterable[np.ndarray]) -> tuple[BatchFit, BatchFit] | None:
+    """Classical fits of both designs from row weights that arrive in blocks of draws.
+
+    Each block's cross-products are taken as it arrives, so the weights of a whole chunk
+    never sit in memory at once: the counting and the product stay within the processor's
+    cache, several times faster on large chunks.  None where the restricted design is no
+    combination of the unrestricted one (the caller then fits from whole weights).
+    """
+    t = combination(unrestricted, restricted)
+    if t is None:
+        return None
+    rows = _row_products(unrestricted, y)
+    parts = [_products(unrestricted, y, block, rows) for block in blocks]
+    joined = tuple(np.concatenate([p[i] for p in parts]) for i in range(4))
+    return _both_classical(joined, t)  # type: ignore[arg-type]
 
 
 @dataclass(frozen=True, eq=False)
@@ -271,7 +310,8 @@ def implied_batch(form: ModelForm, restricted: BatchFit) -> BatchImplied:
     with np.errstate(all="ignore"):
         value = pmap.forward.value(slopes)
         jac = pmap.forward.jacobian(slopes)  # (names, k, B)
-        var = np.einsum("nkb,bkl,nlb->nb", jac, v, jac)
+        rows = np.ascontiguousarray(jac.transpose(2, 0, 1))  # (B, names, k)
+        var = np.einsum("bnk,bnk->nb", rows @ v, rows)
         names = list(pmap.names)
         share_rows = [names.index(s) for s in pmap.shares]
         ordinary = pmap.domain(slopes) > 0
@@ -281,7 +321,8 @@ def implied_batch(form: ModelForm, restricted: BatchFit) -> BatchImplied:
             names.append("+".join(pmap.shares))
             total = jac[share_rows].sum(axis=0)
             value = np.vstack([value, value[share_rows].sum(axis=0)])
-            var = np.vstack([var, np.einsum("kb,bkl,lb->b", total, v, total)])
+            total_rows = total.T[:, None, :]  # (B, 1, k)
+            var = np.vstack([var, np.einsum("bik,bik->b", total_rows @ v, total_rows)])
         se = np.sqrt(np.where(var >= 0, var, np.nan))
     ordinary &= np.isfinite(value).all(axis=0)
     return BatchImplied(tuple(names), value, se, ordinary)
