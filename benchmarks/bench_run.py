@@ -122,6 +122,7 @@ def main() -> None:
         "secondary_enrolment": rng.uniform(1, 12, rows),
         "schooling_index": rng.uniform(1, 20, rows),
         "workforce_growth": rng.uniform(0.2, 3.5, rows),
+        "labour_share": rng.uniform(50, 75, rows),
     }).to_csv(big, index=False)
     big_spec = steadyfit.spec_from_dict(
         {**tomllib.loads(spec.text), "data": {**tomllib.loads(spec.text)["data"],

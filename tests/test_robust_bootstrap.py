@@ -28,6 +28,7 @@ from steadyfit.robust.bootstrap import (
     Draws,
     bias_corrected_interval,
     draw_jobs,
+    percentile_and_bias_corrected,
     percentile_interval,
     run_draws,
     studentised_interval,
@@ -51,6 +52,8 @@ def test_percentile_and_bias_corrected_intervals_by_hand():
     assert bias_corrected_interval(draws, est, 0.9) == pytest.approx(
         tuple(np.quantile(draws, levels)))
     assert bias_corrected_interval(draws, draws.min() - 1, 0.9) is None
+    both = percentile_and_bias_corrected(draws, est, 0.9)
+    assert both == (percentile_interval(draws, 0.9), bias_corrected_interval(draws, est, 0.9))
 
 
 def test_studentised_interval_by_hand():

@@ -41,9 +41,9 @@ from .kernel import BatchFit, classical_pair_in_blocks, fit_pair, implied_batch
 from .results import BootstrapFindings, BootstrapInterval
 
 # Draws per chunk, the unit of seeding and of parallel work: about 2 million row weights per
-# chunk, between 200 and 5000 draws.  It depends on the data alone, never on the workers.
+# chunk, between 200 and 20,000 draws.  It depends on the data alone, never on the workers.
 CHUNK_ROWS = 2_000_000
-CHUNK_BOUNDS = (200, 5000)
+CHUNK_BOUNDS = (200, 20_000)
 
 _GOLDEN = math.sqrt(5.0)
 # Mammen's two-point distribution: mean 0, variance 1, third moment 1
@@ -146,7 +146,7 @@ def draw_chunk(design: Design, restricted: Fit, unrestricted: Fit, covariance: C
 
 
 # draws per block when counting resamples: about 50,000 counts, which stay in cache
-BLOCK_COUNTS = 50_000
+BLOCK_COUNTS = 50000
 
 
 def _blocks(draws: int, units: int) -> list[int]:
@@ -221,6 +221,20 @@ def bias_corrected_interval(draws: np.ndarray, estimate: float, confidence: floa
     return float(lo), float(hi)
 
 
+def percentile_and_bias_corrected(draws: np.ndarray, estimate: float, confidence: float
+                                  ) -> tuple[tuple[float, float], tuple[float, float] | None]:
+    """:func:`percentile_interval` and :func:`bias_corrected_interval` from one pass over the
+    draws (one partition for all four quantiles)."""
+    tail = (1 - confidence) / 2
+    below = float(np.mean(draws < estimate))
+    if below in (0.0, 1.0):
+        return percentile_interval(draws, confidence), None
+    z0, z = float(ndtri(below)), float(ndtri(0.5 + confidence / 2))
+    shifted = ndtr(np.array([2 * z0 - z, 2 * z0 + z]))
+    q = np.quantile(draws, [tail, 1 - tail, *shifted])
+    return (float(q[0]), float(q[1])), (float(q[2]), float(q[3]))
+
+
 def studentised_interval(draws: np.ndarray, draw_se: np.ndarray, estimate: float, se: float,
                          confidence: float) -> tuple[float, float] | None:
     """``[est - q_hi se, est - q_lo se]`` from the quantiles of ``(draw - est)/draw_se``;
@@ -270,7 +284,7 @@ def summarise(draws: Draws, found: EquationFindings, settings: BootstrapSettings
                                           f"no estimate to bootstrap ({why})"))
             continue
         values, ses = _quantity_draws(draws, name)
-        v, s = values[ok], ses[ok]
+        v, s = (values, ses) if failed == 0 else (values[ok], ses[ok])
         spread = float(np.std(v, ddof=1)) if len(v) > 1 else math.nan
         if failed > tail * total or len(v) < 2:
             rows.append(BootstrapInterval(
@@ -280,13 +294,13 @@ def summarise(draws: Draws, found: EquationFindings, settings: BootstrapSettings
             continue
         se = est.se if est.has_se else math.nan
         student = studentised_interval(v, s, est.value, se, level)
-        bias = bias_corrected_interval(v, est.value, level)
+        percentile, bias = percentile_and_bias_corrected(v, est.value, level)
         reasons = [why for why, missing in (
             ("the estimate has no standard error, so no studentised interval", student is None),
             ("every draw lies on one side of the estimate, so no bias-corrected interval",
              bias is None)) if missing]
-        rows.append(BootstrapInterval(name, est.value, spread, percentile_interval(v, level),
-                                      bias, student, "; ".join(reasons) or None))
+        rows.append(BootstrapInterval(name, est.value, spread, percentile, bias, student,
+                                      "; ".join(reasons) or None))
     return BootstrapFindings(settings.method,
                              settings.weights if settings.method == "wild" else None,
                              by_cluster, total, settings.seed, level, int(ok.sum()),

@@ -64,42 +64,50 @@ def _outer_rows(x: np.ndarray) -> np.ndarray:
     return (x[:, :, None] * x[:, None, :]).reshape(len(x), -1)
 
 
-def batch_inverse(a: np.ndarray) -> np.ndarray:
-    """Inverses of a batch of symmetric positive definite matrices, shape (B, k, k).
+def _dot(pairs: Iterable[tuple[np.ndarray, np.ndarray]], size: int) -> np.ndarray:
+    out = np.zeros(size)
+    for a, b in pairs:
+        out += a * b
+    return out
 
-    A Cholesky factorisation written entry by entry, each entry a vector over the batch:
-    for the small cross-product matrices of these designs (k of 6 or fewer) it is an order
-    of magnitude faster than looping LAPACK over the batch.  A matrix that is not positive
-    definite gives NaN in its place.
+
+def inverse_entries(m: np.ndarray) -> np.ndarray:
+    """Inverses of symmetric positive definite matrices laid out (k, k, B), each entry a
+    contiguous vector over the batch; returns the same layout.
+
+    A Cholesky factorisation written entry by entry: for the small cross-product matrices
+    of these designs (k of 6 or fewer) an order of magnitude faster than looping LAPACK
+    over the batch.  A matrix that is not positive definite gives NaN in its place.
     """
-    k = a.shape[1]
-    m = np.ascontiguousarray(np.moveaxis(a, 0, -1))  # (k, k, B): each entry a vector
+    k, size = m.shape[0], m.shape[2]
     chol: list[list[np.ndarray]] = [[np.zeros(0)] * k for _ in range(k)]
     low: list[list[np.ndarray]] = [[np.zeros(0)] * k for _ in range(k)]
+    out = np.empty((k, k, size))
     with np.errstate(invalid="ignore", divide="ignore"):
         for j in range(k):
-            diag = m[j, j] - sum((chol[j][q] * chol[j][q] for q in range(j)),
-                                 start=np.zeros(m.shape[2]))
+            diag = m[j, j] - _dot(((chol[j][q], chol[j][q]) for q in range(j)), size)
             chol[j][j] = np.sqrt(np.where(diag > 0, diag, np.nan))
             for i in range(j + 1, k):
-                dot = sum((chol[i][q] * chol[j][q] for q in range(j)),
-                          start=np.zeros(m.shape[2]))
+                dot = _dot(((chol[i][q], chol[j][q]) for q in range(j)), size)
                 chol[i][j] = (m[i, j] - dot) / chol[j][j]
         # the inverse of the lower factor by forward substitution
         for i in range(k):
             low[i][i] = 1.0 / chol[i][i]
             for j in range(i):
-                dot = sum((chol[i][q] * low[q][j] for q in range(j, i)),
-                          start=np.zeros(m.shape[2]))
-                low[i][j] = -dot / chol[i][i]
-    out = np.empty((a.shape[0], k, k))
-    for i in range(k):  # (L^-T L^-1)[i, j] = sum over q >= max(i, j) of low[q][i] low[q][j]
-        for j in range(i + 1):
-            entry = sum((low[q][i] * low[q][j] for q in range(i, k)),
-                        start=np.zeros(m.shape[2]))
-            out[:, i, j] = entry
-            out[:, j, i] = entry
+                low[i][j] = -_dot(((chol[i][q], low[q][j]) for q in range(j, i)),
+                                  size) / chol[i][i]
+        for i in range(k):  # (L^-T L^-1)[i, j] = sum over q >= max(i, j) of low[q][i] low[q][j]
+            for j in range(i + 1):
+                out[i, j] = _dot(((low[q][i], low[q][j]) for q in range(i, k)), size)
+                out[j, i] = out[i, j]
     return out
+
+
+def batch_inverse(a: np.ndarray) -> np.ndarray:
+    """Inverses of a batch of symmetric positive definite matrices, shape (B, k, k)
+    (see :func:`inverse_entries`)."""
+    inv = inverse_entries(np.ascontiguousarray(np.moveaxis(a, 0, -1)))
+    return np.moveaxis(inv, -1, 0)
 
 
 def fit_batch(x: np.ndarray, y: np.ndarray, covariance: CovarianceName = "classical", *,
@@ -152,10 +160,11 @@ def fit_batch(x: np.ndarray, y: np.ndarray, covariance: CovarianceName = "classi
         xty = ys @ x
         nobs = np.full(draws, float(n))
     elif responses is None:  # one product gives every cross-product, with y'y for the ssr
-        xtx, xty, yty, nobs = _products(x, ys[0], w)
+        xtx, xty, yty, nobs = _split(_products(x, ys[0], w), k)
         if covariance == "classical":
             return _classical(xtx, xty, yty, nobs)
-        inv = batch_inverse(xtx)
+        inv = np.moveaxis(inverse_entries(xtx), -1, 0)
+        xty = xty.T
     else:
         inv = batch_inverse((w @ outer).reshape(draws, k, k))
         xty = (w * ys) @ x
@@ -211,24 +220,30 @@ def _row_products(x: np.ndarray, y: np.ndarray) -> np.ndarray:
 
 
 def _products(x: np.ndarray, y: np.ndarray, w: np.ndarray, rows: np.ndarray | None = None
-              ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
-    """Every draw's X'WX (B, k, k), X'Wy (B, k), y'Wy and sum of weights, from one product of
-    the weights with the rows' cross-products (``rows``, when already at hand)."""
-    k = x.shape[1]
-    stats = w @ (_row_products(x, y) if rows is None else rows)
-    return (stats[:, :k * k].reshape(-1, k, k), stats[:, k * k:k * k + k], stats[:, -2],
-            stats[:, -1])
+              ) -> np.ndarray:
+    """Every draw's sums laid out by entry, (k*k + k + 2, B): X'WX, X'Wy, y'Wy and the sum
+    of weights, from one product of the rows' cross-products (``rows``, when already at
+    hand) with the weights."""
+    return (_row_products(x, y) if rows is None else rows).T @ w.T
+
+
+def _split(stats: np.ndarray, k: int
+           ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """X'WX (k, k, B), X'Wy (k, B), y'Wy and the weights' sum from :func:`_products`."""
+    return (stats[:k * k].reshape(k, k, -1), stats[k * k:k * k + k], stats[-2], stats[-1])
 
 
 def _classical(xtx: np.ndarray, xty: np.ndarray, yty: np.ndarray, nobs: np.ndarray
                ) -> BatchFit:
-    """Classical least squares from cross-products; the residual sum of squares is
-    ``y'Wy - b'X'Wy``."""
-    inv = batch_inverse(xtx)
-    coef = np.einsum("bij,bj->bi", inv, xty)
-    ssr = yty - np.einsum("bi,bi->b", coef, xty)
-    df = nobs - xtx.shape[1]
-    return BatchFit(coef, inv * (ssr / df)[:, None, None], ssr, nobs, "classical")
+    """Classical least squares from cross-products laid out by entry: ``xtx`` (k, k, B),
+    ``xty`` (k, B); the residual sum of squares is ``y'Wy - b'X'Wy``.  The fit's arrays are
+    views of that layout."""
+    k = xtx.shape[0]
+    inv = inverse_entries(xtx)
+    coef = np.einsum("ijb,jb->ib", inv, xty)
+    ssr = yty - np.einsum("ib,ib->b", coef, xty)
+    cov = inv * ((ssr / (nobs - k))[None, None, :])
+    return BatchFit(coef.T, np.moveaxis(cov, -1, 0), ssr, nobs, "classical")
 
 
 def combination(x: np.ndarray, z: np.ndarray) -> np.ndarray | None:
@@ -261,11 +276,13 @@ def fit_pair(unrestricted: np.ndarray, restricted: np.ndarray, y: np.ndarray,
     return _both_classical(_products(unrestricted, y, np.asarray(weights, dtype=float)), t)
 
 
-def _both_classical(products: tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray],
-                    t: np.ndarray) -> tuple[BatchFit, BatchFit]:
-    xtx, xty, yty, nobs = products
-    return (_classical(xtx, xty, yty, nobs),
-            _classical(t.T @ xtx @ t, xty @ t, yty, nobs))
+def _both_classical(stats: np.ndarray, t: np.ndarray) -> tuple[BatchFit, BatchFit]:
+    """Both fits from the unrestricted sums: the restricted ones are ``T' X'WX T`` and
+    ``T' X'Wy``, one small product each."""
+    k, k_r = t.shape
+    xtx, xty, yty, nobs = _split(stats, k)
+    xtx_r = (np.kron(t, t).T @ stats[:k * k]).reshape(k_r, k_r, -1)
+    return (_classical(xtx, xty, yty, nobs), _classical(xtx_r, t.T @ xty, yty, nobs))
 
 
 def classical_pair_in_blocks(unrestricted: np.ndarray, restricted: np.ndarray, y: np.ndarray,
@@ -281,9 +298,7 @@ def classical_pair_in_blocks(unrestricted: np.ndarray, restricted: np.ndarray, y
     if t is None:
         return None
     rows = _row_products(unrestricted, y)
-    parts = [_products(unrestricted, y, block, rows) for block in blocks]
-    joined = tuple(np.concatenate([p[i] for p in parts]) for i in range(4))
-    return _both_classical(joined, t)  # type: ignore[arg-type]
+    return _both_classical(np.hstack([_products(unrestricted, y, b, rows) for b in blocks]), t)
 
 
 @dataclass(frozen=True, eq=False)
@@ -306,12 +321,11 @@ def implied_batch(form: ModelForm, restricted: BatchFit) -> BatchImplied:
     """Implied shares (and their sum), and the speed of convergence, for every draw."""
     pmap = form.parameters
     slopes = restricted.coef[:, 1:].T  # (k, B): the maps broadcast over draws
-    v = restricted.cov[:, 1:, 1:]
+    v = np.moveaxis(restricted.cov, 0, -1)[1:, 1:]  # (k, k, B)
     with np.errstate(all="ignore"):
         value = pmap.forward.value(slopes)
         jac = pmap.forward.jacobian(slopes)  # (names, k, B)
-        rows = np.ascontiguousarray(jac.transpose(2, 0, 1))  # (B, names, k)
-        var = np.einsum("bnk,bnk->nb", rows @ v, rows)
+        var = np.einsum("nlb,nlb->nb", np.einsum("nkb,klb->nlb", jac, v), jac)
         names = list(pmap.names)
         share_rows = [names.index(s) for s in pmap.shares]
         ordinary = pmap.domain(slopes) > 0
@@ -321,8 +335,8 @@ def implied_batch(form: ModelForm, restricted: BatchFit) -> BatchImplied:
             names.append("+".join(pmap.shares))
             total = jac[share_rows].sum(axis=0)
             value = np.vstack([value, value[share_rows].sum(axis=0)])
-            total_rows = total.T[:, None, :]  # (B, 1, k)
-            var = np.vstack([var, np.einsum("bik,bik->b", total_rows @ v, total_rows)])
+            var = np.vstack([var, np.einsum("lb,lb->b", np.einsum("kb,klb->lb", total, v),
+                                            total)])
         se = np.sqrt(np.where(var >= 0, var, np.nan))
     ordinary &= np.isfinite(value).all(axis=0)
     return BatchImplied(tuple(names), value, se, ordinary)
