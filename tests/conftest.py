@@ -70,3 +70,17 @@ def small_data_section(file: str) -> str:
             'income = "income_end"\ninvest = "invest"\nschooling = "school"\n'
             'workforce_growth = "growth"\n\n[data.units]\ninvest = "percent"\n'
             'schooling = "percent"\nworkforce_growth = "percent"\n')
+
+
+def augmented_sample(rng, n: int, noise: float = 0.35):
+    """Levels data from the augmented model with alpha = 0.3 and beta = 0.25 (DOMAIN.md
+    section 2) and technology noise: the response, the unrestricted design (constant,
+    ln s_k, ln(n + g + delta), ln s_h) and the restricted one."""
+    import numpy as np
+
+    a, b = 0.3, 0.25
+    sk, sh = np.log(rng.uniform(0.05, 0.35, n)), np.log(rng.uniform(0.01, 0.12, n))
+    ngd = np.log(rng.uniform(0.05, 0.09, n))
+    y = 8 + (a * sk + b * sh - (a + b) * ngd) / (1 - a - b) + rng.normal(0, noise, n)
+    return y, np.column_stack([np.ones(n), sk, ngd, sh]), np.column_stack(
+        [np.ones(n), sk - ngd, sh - ngd])

@@ -214,6 +214,9 @@ def _outcomes(f):
     for r in f.results:
         if r.f_test is not None:
             out[(r.equation, r.sample, "restriction (F test)")] = word[r.f_test.rejects(level)]
+        if r.bootstrap is not None and r.bootstrap.restriction is not None:
+            out[(r.equation, r.sample, "restriction (bootstrap)")] = word[
+                r.bootstrap.restriction.rejects(level)]
         for v in r.shares:
             if v.band is not None:
                 out[(r.equation, r.sample, f"{v.name} against its band")] = (

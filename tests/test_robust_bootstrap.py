@@ -18,6 +18,7 @@ import pytest
 from scipy import stats
 
 import steadyfit
+from conftest import augmented_sample
 from steadyfit.demo import write_demo
 from steadyfit.equations import get_form
 from steadyfit.estimators import fit_ols
@@ -67,17 +68,6 @@ def test_studentised_interval_by_hand():
     assert studentised_interval(draws, ses, 0.31, math.nan, 0.95) is None
 
 
-def _simulated_design(rng: np.random.Generator, n: int):
-    """Levels data from the augmented model with alpha = 0.3, beta = 0.25 (DOMAIN.md
-    section 2), with technology noise."""
-    a, b = 0.3, 0.25
-    sk, sh = np.log(rng.uniform(0.05, 0.35, n)), np.log(rng.uniform(0.01, 0.12, n))
-    ngd = np.log(rng.uniform(0.05, 0.09, n))
-    y = 8 + (a * sk + b * sh - (a + b) * ngd) / (1 - a - b) + rng.normal(0, 0.35, n)
-    return y, np.column_stack([np.ones(n), sk, ngd, sh]), np.column_stack(
-        [np.ones(n), sk - ngd, sh - ngd])
-
-
 class _Design:
     """What the bootstrap reads of a design (no spec or data file needed)."""
 
@@ -97,7 +87,7 @@ def test_percentile_intervals_cover_alpha_near_the_nominal_level(method):
     names_u, names_r = ("c", "k", "n", "h"), ("c", "k", "h")
     hits, sims = 0, 300
     for s in range(sims):
-        y, x_u, x_r = _simulated_design(rng, 120)
+        y, x_u, x_r = augmented_sample(rng, 120)
         unres = fit_ols(y, x_u, names_u, names_u, "HC1")
         res = fit_ols(y, x_r, names_r, names_r, "HC1")
         d = _Design(y, x_u, x_r, form)
@@ -114,7 +104,7 @@ def test_wild_draws_give_the_restrictions_null_distribution():
     chi-square with one degree of freedom: their mean is near 1 and the 95th percentile near
     3.84 (scipy)."""
     form = get_form("levels:physical+human_rate")
-    y, x_u, x_r = _simulated_design(np.random.default_rng(5), 150)
+    y, x_u, x_r = augmented_sample(np.random.default_rng(5), 150)
     names_u, names_r = ("c", "k", "n", "h"), ("c", "k", "h")
     unres = fit_ols(y, x_u, names_u, names_u, "HC1")
     res = fit_ols(y, x_r, names_r, names_r, "HC1")
@@ -126,7 +116,7 @@ def test_wild_draws_give_the_restrictions_null_distribution():
 
 def test_one_worker_and_two_give_the_same_bytes():
     form = get_form("levels:physical+human_rate")
-    y, x_u, x_r = _simulated_design(np.random.default_rng(9), 90)
+    y, x_u, x_r = augmented_sample(np.random.default_rng(9), 90)
     names_u, names_r = ("c", "k", "n", "h"), ("c", "k", "h")
     unres = fit_ols(y, x_u, names_u, names_u, "classical")
     res = fit_ols(y, x_r, names_r, names_r, "classical")
@@ -143,7 +133,8 @@ def test_one_worker_and_two_give_the_same_bytes():
 def boot_spec(tmp_path_factory) -> Path:
     folder = tmp_path_factory.mktemp("boot")
     spec = write_demo(folder)
-    spec.write_text(spec.read_text() + '\n[bootstrap]\nreplications = 299\nseed = 5\n'
+    spec.write_text(spec.read_text().split("# Robustness")[0]
+                    + '\n[bootstrap]\nreplications = 299\nseed = 5\n'
                     'equations = ["with_schooling", "convergence"]\n')
     return spec
 
@@ -192,7 +183,7 @@ def test_the_same_seed_gives_the_same_record_on_one_and_two_workers(boot_spec, t
 ])
 def test_bootstrap_spec_refusals_name_the_key(tmp_path, text, words):
     spec = write_demo(tmp_path / "d")
-    spec.write_text(spec.read_text() + f"\n[bootstrap]\n{text}\n")
+    spec.write_text(spec.read_text().split("# Robustness")[0] + f"\n[bootstrap]\n{text}\n")
     with pytest.raises(steadyfit.InputError) as err:
         steadyfit.load_spec(spec)
     assert "bootstrap" in str(err.value) and words in str(err.value)
@@ -201,7 +192,7 @@ def test_bootstrap_spec_refusals_name_the_key(tmp_path, text, words):
 def test_dask_cluster_gives_what_the_local_executor_gives():
     distributed = pytest.importorskip("distributed")
     form = get_form("levels:physical+human_rate")
-    y, x_u, x_r = _simulated_design(np.random.default_rng(2), 80)
+    y, x_u, x_r = augmented_sample(np.random.default_rng(2), 80)
     names_u, names_r = ("c", "k", "n", "h"), ("c", "k", "h")
     unres = fit_ols(y, x_u, names_u, names_u, "HC1")
     res = fit_ols(y, x_r, names_r, names_r, "HC1")
@@ -218,7 +209,7 @@ def test_dask_cluster_gives_what_the_local_executor_gives():
 def test_implied_alpha_of_the_draws_matches_the_one_fit_path():
     """Draw 0 of a run refitted by the one-fit path gives the same alpha (the batch maps)."""
     form = get_form("levels:physical+human_rate")
-    y, x_u, x_r = _simulated_design(np.random.default_rng(8), 60)
+    y, x_u, x_r = augmented_sample(np.random.default_rng(8), 60)
     names_r = ("c", "k", "h")
     res = fit_ols(y, x_r, names_r, names_r, "classical")
     shares, _, _ = implied_parameters(form, res, 0.95, {}, {})

@@ -22,7 +22,7 @@ import numpy as np
 import pandas as pd
 
 from .data import LOG_COLUMNS, sample_members
-from .design import Design, _matrix
+from .design import Design, regressor_matrix
 from .equations import Regressor, term_label
 from .filters import parse_filter, referenced_columns
 from .labels import MINUS, SYMBOLS
@@ -243,7 +243,7 @@ def build_analysis(plan: Plan) -> AnalysisData:
 
     values = {c: frame[c].to_numpy(dtype=float) for c in canonical if c in frame.columns}
     for reg in _derived(c.design.form.unrestricted + c.design.form.restricted for c in cells):
-        column = _matrix(values, (reg,), len(frame))[:, 1]
+        column = regressor_matrix(values, (reg,), len(frame))[:, 1]
         parts = [table.variables[_variable_of(c)] for c in reg.weights]
         canonical[reg.name] = add(ColumnInfo(
             reg.name, "derived", f"regressor {reg.text(symbols)} of the restricted equations",

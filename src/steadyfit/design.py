@@ -72,7 +72,9 @@ class Design:
         return cell_name(self.equation, self.sample)
 
 
-def _matrix(frame_values: dict[str, np.ndarray], regs: tuple[Regressor, ...], n: int) -> np.ndarray:
+def regressor_matrix(frame_values: Mapping[str, np.ndarray], regs: tuple[Regressor, ...],
+                     n: int) -> np.ndarray:
+    """The constant and each regressor (a combination of canonical columns) as columns."""
     cols = [np.ones(n)]
     for reg in regs:
         col = np.zeros(n)
@@ -95,8 +97,8 @@ def build_design(selection: Selection, form: ModelForm, equation: str,
             f"{n} economies are left ({selection.n_in_sample} in the sample, "
             f"{len(selection.dropped)} dropped), but the unrestricted equation has {k} "
             f"coefficients and needs at least {k + 2} economies", where)
-    x_u = _matrix(values, form.unrestricted, n)
-    x_r = _matrix(values, form.restricted, n)
+    x_u = regressor_matrix(values, form.unrestricted, n)
+    x_r = regressor_matrix(values, form.restricted, n)
     symbols = dict(symbols or {})
     for x, regs in ((x_u, form.unrestricted), (x_r, form.restricted)):
         _check_rank(x, ("constant", *(r.text(symbols) for r in regs)), where)

@@ -19,7 +19,7 @@ from .labels import DisplayLabels, display
 
 if TYPE_CHECKING:
     from .panel.results import PanelFindings
-    from .robust.results import BootstrapFindings
+    from .robust.results import BootstrapFindings, InfluenceFindings, SweepFindings
 
 BandStatus = Literal["inside", "overlaps", "outside"]
 # how a test's p-value is read: from F, chi-square or normal tails, or from bootstrap draws
@@ -287,6 +287,7 @@ class EquationFindings:
     equation_label: str | None = None  # display labels from the spec's [labels]
     sample_label: str | None = None
     bootstrap: BootstrapFindings | None = None  # with [bootstrap]
+    influence: InfluenceFindings | None = None  # with [influence]
 
     @property
     def steady_state(self) -> bool:
@@ -426,6 +427,7 @@ class Findings:
     labels: DisplayLabels = field(default_factory=DisplayLabels)
     analysis: AnalysisData | None = None  # the analysis data of the replication package
     panels: tuple[PanelFindings, ...] = ()  # panel equations x samples
+    sweep: SweepFindings | None = None  # with [sweep]
 
     @property
     def targets_met(self) -> bool:

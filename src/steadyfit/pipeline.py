@@ -295,10 +295,12 @@ def run(spec: Spec | str | Path, execution: Execution | None = None) -> Findings
                            equation_label=labels.equations.get(cell.equation),
                            sample_label=labels.samples.get(cell.sample))
                    for cell in p.panels)
-    if p.spec.body.bootstrap is not None:
-        from .robust.cells import bootstrap_cells
+    sweep = None
+    b = p.spec.body
+    if b.bootstrap is not None or b.influence is not None or b.sweep is not None:
+        from .robust.cells import robustness_cells
 
-        results = bootstrap_cells(p, results, settings, execution or Execution())
+        results, sweep = robustness_cells(p, results, settings, execution or Execution())
     seen: dict[str, SampleSummary] = {}
     for cell in p.cells:
         sel = cell.selection
@@ -345,6 +347,7 @@ def run(spec: Spec | str | Path, execution: Execution | None = None) -> Findings
         labels=labels,
         analysis=analysis,
         panels=panels,
+        sweep=sweep,
     )
 
 

@@ -28,6 +28,9 @@ same way:
 ``<q>_percentile_low``  with ``[bootstrap]``: each quantity's bootstrap intervals (``_high``;
                        ``_bias_corrected_``, ``_studentised_`` likewise), ``<q>_bootstrap_sd``
                        the draws' standard deviation, ``restriction_bootstrap_p``
+``<q>_leave_one_``     with ``[influence]``: the largest shift in ``alpha``, ``beta`` or
+``out_max``            ``lam`` from leaving one economy out (signed);
+                       ``influential_economies`` how many move a quantity beyond its threshold
 ``measured_capital_``  ``measured_capital_share``: one minus the mean labour share of the
 ``share``              economies used (``_se`` of that mean), where the data carry one;
                        ``alpha_gap`` implied alpha minus it (``_se``), ``alpha_gap_p`` the
@@ -43,6 +46,8 @@ from __future__ import annotations
 
 import math
 from typing import TYPE_CHECKING
+
+import numpy as np
 
 from .equations import ModelForm
 from .panel.methods import METHODS
@@ -218,6 +223,16 @@ def _collect(r: EquationFindings) -> tuple[dict[str, float | None], dict[str, st
                     put(f"{i.name}_{kind}_{end}", value, i.reason)
         if b.restriction is not None:
             put("restriction_bootstrap_p", b.restriction.pvalue, b.restriction.reason)
+    inf = r.influence
+    if inf is not None:
+        for j, name in enumerate(inf.quantities):
+            row = np.abs(inf.shifts[j])
+            finite = np.isfinite(row)
+            put(f"{name}_leave_one_out_max",
+                float(inf.shifts[j][np.nanargmax(row)]) if finite.any() else math.nan,
+                "no fit without one economy implies ordinary parameters")
+        put("influential_economies", float(sum(bool(e.moves) or not e.ordinary
+                                                for e in inf.named)))
     c = r.crosscheck
     if c is not None:
         put("crosscheck_gap", c.gap.value, c.gap.reason)

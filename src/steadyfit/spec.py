@@ -287,6 +287,36 @@ class BootstrapSpec(Record):
     equations: tuple[str, ...] | None = None
 
 
+class InfluenceSpec(Record):
+    """Leave one economy out of every cross-section equation and sample (or of
+    ``equations``); name the economies that move a share by more than ``threshold`` or the
+    speed of convergence by more than ``speed_threshold`` (a year)."""
+
+    threshold: float = Field(0.02, gt=0, lt=1)
+    speed_threshold: float = Field(0.002, gt=0, lt=1)
+    equations: tuple[str, ...] | None = None
+
+
+class SweepSpec(Record):
+    """A grid of specifications: every combination of the listed samples, values of
+    g + delta and covariance choices, and (with ``drop_each``) each group of that column
+    left out in turn."""
+
+    equations: tuple[str, ...] | None = None
+    samples: tuple[str, ...] | None = None
+    g_plus_delta: tuple[float, ...] | None = Field(None, min_length=1)
+    covariance: tuple[CovarianceName, ...] | None = Field(None, min_length=1)
+    drop_each: str | None = None
+
+    @field_validator("g_plus_delta")
+    @classmethod
+    def _gd_range(cls, v: tuple[float, ...] | None) -> tuple[float, ...] | None:
+        for x in v or ():
+            if not 0 < x < 1:
+                raise ValueError(f"each value lies between 0 and 1, not {x:g}")
+        return v
+
+
 class SpecBody(Record):
     title: str = "steadyfit run"
     data: DataSpec
@@ -301,6 +331,8 @@ class SpecBody(Record):
     labels: LabelSpec = Field(default_factory=LabelSpec)
     target: tuple[TargetSpec, ...] = ()
     bootstrap: BootstrapSpec | None = None
+    influence: InfluenceSpec | None = None
+    sweep: SweepSpec | None = None
 
     @field_validator("samples")
     @classmethod
@@ -340,15 +372,24 @@ class SpecBody(Record):
                 raise ValueError(f"equation[{i}]: form '{form.key}' needs assumptions.span_years")
         equations_by_name = {e.name: e for e in self.equation}
         self._check_labels(equations_by_name)
-        if self.bootstrap is not None:
-            for name in self.bootstrap.equations or ():
+        if self.sweep is not None:
+            for s in self.sweep.samples or ():
+                if s not in self.samples:
+                    raise ValueError(f"sweep.samples: unknown sample '{quote(s)}'"
+                                     f"{did_you_mean(s, self.samples)}")
+            if "cluster" in (self.sweep.covariance or ()) and not self.inference.cluster:
+                raise ValueError("sweep.covariance: \"cluster\" needs inference.cluster, "
+                                 "the column to cluster by")
+        for section in ("bootstrap", "influence", "sweep"):
+            asked = getattr(self, section)
+            for name in (asked.equations or ()) if asked is not None else ():
                 chosen = equations_by_name.get(name)
                 if chosen is None:
-                    raise ValueError(f"bootstrap.equations: unknown equation '{quote(name)}'"
+                    raise ValueError(f"{section}.equations: unknown equation '{quote(name)}'"
                                      f"{did_you_mean(name, equations_by_name)}")
                 if chosen.form == "panel":
-                    raise ValueError(f"bootstrap.equations: '{name}' is a panel equation; the "
-                                     "bootstrap covers cross-section equations")
+                    raise ValueError(f"{section}.equations: '{name}' is a panel equation; "
+                                     f"[{section}] covers cross-section equations")
         for i, t in enumerate(self.target, 1):
             target_eq = equations_by_name.get(t.equation)
             if target_eq is None:

@@ -427,6 +427,11 @@ def _jobs(findings: Findings, formats: tuple[str, ...]
             jobs.append((2 * points(r), functools.partial(convergence_figure, r, formats)))
     jobs += [(2.0, functools.partial(panel_figure, findings, p, formats))
              for p in findings.panels]
+    if findings.sweep is not None:
+        from .curve import sweep_figure
+
+        jobs += [(2.0, functools.partial(sweep_figure, findings, eq, formats))
+                 for eq in findings.sweep.equations()]
     return jobs
 
 

@@ -11,6 +11,7 @@ from ..labels import quantity_label
 from .figures import Figure
 from .tables import (
     Table,
+    beside_shares,
     combined_table,
     compact_table,
     consistency_table,
@@ -129,11 +130,7 @@ def report_tables(findings: Findings) -> list[Table]:
     """The tables of the HTML report's table section, each coefficient shown once: implied
     shares, then per form the unrestricted and restricted fits side by side, then the
     unrestricted cross-check and the structural estimates."""
-    from .anchor import anchor_table
-    from .robustness import bootstrap_table
-
-    extra = [t for t in (anchor_table(findings), bootstrap_table(findings)) if t is not None]
-    out = [shares_table(findings), *extra]
+    out = [shares_table(findings), *beside_shares(findings)]
     out += [combined_table(findings, res, suffix, title)
             for suffix, title, res in families(findings)]
     if any(r.crosscheck for r in findings.results):

@@ -13,6 +13,8 @@ from dataclasses import asdict
 from importlib import resources
 from typing import Any
 
+import numpy as np
+
 from ..estimators import Fit
 from ..findings import (
     AnchorCheck,
@@ -24,7 +26,7 @@ from ..findings import (
 )
 from ..panel.results import PanelFindings, PanelFit
 from ..quantities import canonical, panel_quantities, quantities, unavailable
-from ..robust.results import BootstrapFindings
+from ..robust.results import BootstrapFindings, InfluenceFindings, SweepFindings
 
 # 2: "reason" beside every number that is not available.
 # 3: keys in steadyfit's own words: a fit's nobs, df_resid, r2, adj_r2, ser and ssr became
@@ -157,6 +159,39 @@ def _result(r: EquationFindings, confidence: float) -> dict[str, Any]:
         "quantities": {k: _num(v) for k, v in quantities(r).items()},
         "unavailable": unavailable(r),
         "bootstrap": None if r.bootstrap is None else _bootstrap(r.bootstrap),
+        "influence": None if r.influence is None else _influence(r.influence),
+    }
+
+
+def _sweep(sw: SweepFindings) -> dict[str, Any]:
+    return {
+        "drop_each": sw.drop_each, "confidence": sw.confidence,
+        "specifications": [
+            {"equation": r.equation, "sample": r.sample, "g_plus_delta": r.g_plus_delta,
+             "covariance": r.covariance, "dropped": r.dropped, "observations": r.nobs,
+             "values": {k: _num(v) for k, v in r.values.items()},
+             "intervals": {k: [_num(lo), _num(hi)] for k, (lo, hi) in r.intervals.items()},
+             "restriction_p": _num(r.restriction_p), "reason": r.reason}
+            for r in sw.rows],
+    }
+
+
+def _influence(inf: InfluenceFindings) -> dict[str, Any]:
+    """The named economies and each quantity's largest shift (never one entry per economy:
+    the folder stays small at any size)."""
+    largest = {}
+    for j, q in enumerate(inf.quantities):
+        row = inf.shifts[j]
+        i = int(np.nanargmax(np.abs(row))) if np.isfinite(row).any() else None
+        largest[q] = None if i is None else {"economy": inf.economies[i],
+                                             "shift": _num(row[i])}
+    return {
+        "threshold": inf.threshold, "speed_threshold": inf.speed_threshold,
+        "cooks_cutoff": _num(inf.cooks_cutoff), "economies_left_out": len(inf.economies),
+        "largest_shift": largest,
+        "named": [{"economy": e.economy, "shifts": {k: _num(v) for k, v in e.shifts.items()},
+                   "restriction_p": _num(e.restriction_p), "cooks_distance": _num(e.cooks_distance),
+                   "moves": list(e.moves), "ordinary": e.ordinary} for e in inf.named],
     }
 
 
@@ -263,6 +298,7 @@ def to_record(findings: Findings, run: dict[str, Any]) -> dict[str, Any]:
              "joint_covariance": c.joint_covariance, "clusters": c.n_clusters}
             for c in findings.consistency],
         **({"panels": [_panel(p) for p in findings.panels]} if findings.panels else {}),
+        **({"sweep": _sweep(findings.sweep)} if findings.sweep is not None else {}),
         "warnings": list(findings.warnings),
         "caveats": list(findings.caveats),
         "provenance": asdict(findings.provenance),

@@ -551,15 +551,24 @@ def scorecard_table(findings: Findings) -> Table | None:
                  digits=findings.settings.digits + 1)
 
 
+def beside_shares(findings: Findings) -> list[Table]:
+    """The tables that follow the implied shares when a run asked for them: the
+    national-accounts anchor, bootstrap intervals, influential economies, the specification
+    sweep and the sensitivity to g + delta."""
+    from .anchor import anchor_table
+    from .robustness import bootstrap_table, influence_table, sensitivity_table, sweep_table
+
+    return [t for t in (anchor_table(findings), bootstrap_table(findings),
+                        influence_table(findings), sweep_table(findings),
+                        sensitivity_table(findings)) if t is not None]
+
+
 def all_tables(findings: Findings) -> tuple[Table, ...]:
     """Every table of a run, in reading order."""
     card = scorecard_table(findings)
     groups = families(findings)
-    from .anchor import anchor_table
-    from .robustness import bootstrap_table
-
-    extra = [t for t in (anchor_table(findings), bootstrap_table(findings)) if t is not None]
-    out: list[Table] = [*((card,) if card else ()), shares_table(findings), *extra]
+    out: list[Table] = [*((card,) if card else ()), shares_table(findings),
+                        *beside_shares(findings)]
     out += [journal_table(findings, res, suffix, title) for suffix, title, res in groups]
     for restricted in (False, True):
         out += [coefficient_table(findings, restricted, res, suffix) for suffix, _, res in groups]

@@ -115,6 +115,26 @@ def bootstrap_phrase(r: EquationFindings, level: float) -> str:
     return words[0] + ": " + ", ".join(words[1:]) if len(words) > 1 else words[0]
 
 
+def influence_phrase(r: EquationFindings) -> str:
+    """The leave-one-out analysis in words: the economies that move a share (or the speed of
+    convergence) beyond the threshold, the largest first."""
+    inf = r.influence
+    assert inf is not None
+    movers = [e for e in inf.named if e.moves or not e.ordinary]
+    if not movers:
+        return (f"leaving out any one economy moves no share by more than {inf.threshold:g}"
+                + (f" nor {LAMBDA} by more than {inf.speed_threshold:g}"
+                   if "lam" in inf.quantities else ""))
+    top = movers[0]
+    what = ("implies no steady state" if not top.ordinary else ", ".join(
+        f"{quantity_label(q)} by {'+' if top.shifts[q] > 0 else ''}"
+        f"{format_number(top.shifts[q], 4 if q == 'lam' else 3)}" for q in top.moves))
+    more = (f" ({len(movers)} economies move a quantity beyond its threshold)"
+            if len(movers) > 1 else "")
+    verb = "" if not top.ordinary else "moves "
+    return f"leaving out '{top.economy}' {verb}{what}{more}"
+
+
 def speed_phrase(lam: Estimate, half: Estimate) -> str:
     """The speed of convergence and half-life in words (divergence said as such)."""
     if not lam.has_value:
@@ -156,6 +176,8 @@ def verdict_lines(findings: Findings) -> tuple[str, ...]:
             parts.append(speed_phrase(lam, half))
         if r.bootstrap is not None:
             parts.append(bootstrap_phrase(r, level))
+        if r.influence is not None:
+            parts.append(influence_phrase(r))
         text = "; ".join(parts)
         first = text[:1].upper() if text[:1].isascii() else text[:1]  # never 'Α' for 'α'
         out.append(f"{head} {first}{text[1:]}." if parts else head)
@@ -203,6 +225,8 @@ def conclusion(findings: Findings) -> str:
         if None in agree and testable:
             text += f" ({agree.count(None)} more cannot be compared)"
         parts.append(text)
+    if findings.sweep is not None:
+        parts.append(sweep_clause(findings, level))
     n = len(findings.results)
     head = f"Across {_count(n, 'result')} (equations \u00d7 samples)"
     panels = _panel_clause(findings, level)
@@ -212,6 +236,25 @@ def conclusion(findings: Findings) -> str:
         return f"{head}, there is nothing to test or judge."
     tail = f"; in the dynamic panels, {panels}" if panels else ""
     return f"{head}: " + "; ".join(parts) + tail + "."
+
+
+def sweep_clause(findings: Findings, level: float) -> str:
+    """The sweep in a clause: over how many specifications the share intervals overlap the
+    band and the restriction is rejected."""
+    s = findings.sweep
+    assert s is not None
+    overlap = [s.share_overlapping(eq, "alpha") for eq in s.equations()]
+    reject = [s.share_rejecting(eq, level) for eq in s.equations()]
+    inside, counted = sum(o for o, _ in overlap), sum(c for _, c in overlap)
+    rejected, tested = sum(r for r, _ in reject), sum(t for _, t in reject)
+    text = f"over the {_count(len(s), 'specification')} of the sweep"
+    if counted:
+        text += (f", the interval of {quantity_label('alpha')} overlaps its band in {inside} of "
+                 f"{counted}")
+    if tested:
+        text += f" and the restriction is rejected at the {level:.0%} level in {rejected} of " \
+                f"{tested}"
+    return text
 
 
 def anchor_clause(shares: list[ShareVerdict], level: float) -> str | None:
@@ -277,4 +320,5 @@ def consistency_lines(findings: Findings) -> tuple[str, ...]:
 
 
 __all__ = ["anchor_phrase", "bootstrap_phrase", "conclusion", "consistency_lines", "format_p",
-           "measured_words", "p_phrase", "restriction_phrase", "speed_phrase", "verdict_lines"]
+           "influence_phrase", "measured_words", "p_phrase", "restriction_phrase",
+           "speed_phrase", "verdict_lines"]

@@ -301,6 +301,19 @@ def classical_pair_in_blocks(unrestricted: np.ndarray, restricted: np.ndarray, y
     return _both_classical(np.hstack([_products(unrestricted, y, b, rows) for b in blocks]), t)
 
 
+def classical_pairs(designs: list[tuple[np.ndarray, np.ndarray, np.ndarray]], y: np.ndarray
+                    ) -> tuple[BatchFit, BatchFit] | None:
+    """Classical fits of both designs for several designs of the same rows at once: each
+    ``(unrestricted, restricted, weights)`` contributes its draws (rows of ``weights``), and
+    every draw of every design is solved in one batch.  The restricted regressors must be
+    the same combination of the unrestricted ones in every design (as when only a column's
+    values change); None where they are no combination."""
+    t = combination(designs[0][0], designs[0][1])
+    if t is None:
+        return None
+    return _both_classical(np.hstack([_products(xu, y, w) for xu, _, w in designs]), t)
+
+
 @dataclass(frozen=True, eq=False)
 class BatchImplied:
     """The structural parameters of every draw: ``names`` in the order of the form's

@@ -4,6 +4,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+import numpy as np
+
 from ..findings import TestResult
 
 
@@ -60,3 +62,140 @@ class BootstrapFindings:
 
     def __repr__(self) -> str:
         return f"BootstrapFindings({self.description}; {self.ordinary} ordinary)"
+
+
+@dataclass(frozen=True)
+class InfluentialEconomy:
+    """One economy named by the leave-one-out analysis: how far leaving it out moves each
+    implied quantity (left out minus all), the restriction's Wald p-value without it, its
+    Cook's distance, the quantities it moves beyond the threshold, and whether the fit
+    without it still implies ordinary parameters."""
+
+    economy: str
+    shifts: dict[str, float]
+    restriction_p: float | None
+    cooks_distance: float
+    moves: tuple[str, ...]
+    ordinary: bool = True
+
+
+@dataclass(frozen=True, eq=False)
+class InfluenceFindings:
+    """Leave-one-economy-out results of one equation on one sample.
+
+    ``shifts`` has one row per quantity of ``quantities`` and one column per economy of
+    ``economies`` (NaN where the fit without that economy implies no ordinary parameters);
+    ``restriction_p`` and ``cooks`` one entry per economy.  ``named`` lists the economies
+    that move a share by more than ``threshold`` (the speed of convergence by more than
+    ``speed_threshold``), whose Cook's distance exceeds ``cooks_cutoff``, or without which the
+    fit implies no ordinary parameters; the largest effect (relative to its threshold)
+    first.
+    """
+
+    threshold: float
+    speed_threshold: float
+    cooks_cutoff: float
+    quantities: tuple[str, ...]
+    economies: tuple[str, ...]
+    shifts: np.ndarray
+    restriction_p: np.ndarray
+    cooks: np.ndarray
+    named: tuple[InfluentialEconomy, ...]
+
+    def __repr__(self) -> str:
+        return (f"InfluenceFindings({len(self.economies)} economies left out one at a time; "
+                f"{len(self.named)} named)")
+
+
+@dataclass(frozen=True)
+class SweepRow:
+    """One specification of a sweep: its settings (``dropped`` is the group of the
+    ``drop_each`` column left out, None for none), the economies used, the implied
+    quantities with their delta-method intervals, the restriction's Wald p-value, and why
+    the numbers are missing (``reason``) when they are."""
+
+    equation: str
+    sample: str
+    g_plus_delta: float
+    covariance: str
+    dropped: str | None
+    nobs: int
+    values: dict[str, float]
+    intervals: dict[str, tuple[float, float]]
+    restriction_p: float | None
+    reason: str | None = None
+
+
+@dataclass(frozen=True, eq=False)
+class SweepFindings:
+    """Every specification of ``[sweep]``, column by column (one entry per specification):
+    its settings (``dropped`` is the group of ``drop_each`` left out, None for none), the
+    economies used, the implied ``quantities`` with delta-method intervals (rows of
+    ``values``, ``low`` and ``high``; NaN where a quantity is missing), the restriction's
+    Wald p-value (NaN without one) and why a specification has no numbers (``reasons``)."""
+
+    equation: tuple[str, ...]
+    sample: tuple[str, ...]
+    g_plus_delta: np.ndarray
+    covariance: tuple[str, ...]
+    dropped: tuple[str | None, ...]
+    nobs: np.ndarray
+    quantities: tuple[str, ...]
+    values: np.ndarray
+    low: np.ndarray
+    high: np.ndarray
+    restriction_p: np.ndarray
+    reasons: tuple[str | None, ...]
+    shown: dict[str, tuple[str, ...]]  # equation -> the quantities its form implies
+    bands: dict[str, tuple[float, float]]
+    confidence: float
+    drop_each: str | None = None
+
+    def __len__(self) -> int:
+        return len(self.equation)
+
+    @property
+    def rows(self) -> tuple[SweepRow, ...]:
+        """One record per specification (for renderers and notebooks)."""
+        out = []
+        for b in range(len(self)):
+            names = self.shown[self.equation[b]]
+            idx = [self.quantities.index(q) for q in names]
+            p = float(self.restriction_p[b])
+            out.append(SweepRow(
+                self.equation[b], self.sample[b], float(self.g_plus_delta[b]),
+                self.covariance[b], self.dropped[b], int(self.nobs[b]),
+                {q: float(self.values[j, b]) for q, j in zip(names, idx, strict=True)},
+                {q: (float(self.low[j, b]), float(self.high[j, b]))
+                 for q, j in zip(names, idx, strict=True)},
+                None if np.isnan(p) else p, self.reasons[b]))
+        return tuple(out)
+
+    def equations(self) -> tuple[str, ...]:
+        return tuple(dict.fromkeys(self.equation))
+
+    def _of(self, equation: str) -> np.ndarray:
+        return np.asarray(self.equation) == equation
+
+    def share_overlapping(self, equation: str, name: str) -> tuple[int, int]:
+        """How many of the equation's specifications with a ``name`` interval have it
+        overlapping the band, and how many have one."""
+        if name not in self.quantities:
+            return 0, 0
+        j = self.quantities.index(name)
+        lo, hi = self.low[j, self._of(equation)], self.high[j, self._of(equation)]
+        ok = np.isfinite(lo) & np.isfinite(hi)
+        band = self.bands.get(name)
+        if band is None:
+            return 0, int(ok.sum())
+        return int(((lo <= band[1]) & (hi >= band[0]) & ok).sum()), int(ok.sum())
+
+    def share_rejecting(self, equation: str, level: float) -> tuple[int, int]:
+        """How many of the equation's specifications reject the restriction at ``level``,
+        and how many have a test."""
+        p = self.restriction_p[self._of(equation)]
+        tested = np.isfinite(p)
+        return int((p[tested] < level).sum()), int(tested.sum())
+
+    def __repr__(self) -> str:
+        return f"SweepFindings({len(self)} specifications)"

@@ -1,0 +1,212 @@
+"""Specification sweeps: every combination of samples, values of g + delta, covariance
+choices and one group of a column left out at a time, fitted in batches.
+
+For one equation on one sample the regressors are rebuilt for each value of g + delta from
+the canonical columns through the form's regressors (only ``ln(n + g + delta)`` changes);
+the groups left out are row masks.  Under the classical covariance every value of
+g + delta and every group of one equation and sample is solved in one batch from the
+cross-products (:func:`steadyfit.robust.kernel.classical_pairs`); other covariances go
+through :func:`~steadyfit.robust.kernel.fit_pair` per value.  Each equation, sample and
+covariance choice is one job for the executor; the results come back column by column.
+
+A specification whose rows are too few for its regressors (after a group is left out, or
+where n + g + delta is not positive), or whose fit implies no ordinary parameters, stays in
+the grid with the reason.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+import numpy as np
+import pandas as pd
+from scipy.special import chdtrc, ndtri
+
+from ..data import LOG_COLUMNS
+from ..design import Design, regressor_matrix
+from ..errors import InputError, did_you_mean, quote
+from ..estimators import CovarianceName
+from .kernel import BatchFit, classical_pairs, fit_pair, implied_batch
+from .results import SweepFindings
+
+if TYPE_CHECKING:
+    from ..findings import Settings
+    from ..pipeline import Plan
+
+NGD = LOG_COLUMNS["workforce_growth"]
+SHOWN = ("alpha", "beta", "lam")
+
+
+@dataclass(frozen=True, eq=False)
+class SweepPart:
+    """The specifications of one job, column by column (see :class:`SweepFindings`)."""
+
+    equation: str
+    sample: str
+    covariance: str
+    g_plus_delta: np.ndarray
+    dropped: tuple[str | None, ...]
+    nobs: np.ndarray
+    quantities: tuple[str, ...]
+    values: np.ndarray
+    low: np.ndarray
+    high: np.ndarray
+    restriction_p: np.ndarray
+    reasons: tuple[str | None, ...]
+
+
+@dataclass(frozen=True, eq=False)
+class _Job:
+    """One equation on one sample under one covariance choice: every value of g + delta and
+    every group left out."""
+
+    design: Design
+    columns: dict[str, np.ndarray]  # canonical columns of the design's rows
+    base_gd: float  # g + delta of the columns' ln(n + g + delta)
+    values: tuple[float, ...]
+    covariance: CovarianceName
+    masks: np.ndarray
+    labels: tuple[str | None, ...]
+    confidence: float
+
+    def __call__(self) -> SweepPart:
+        with np.errstate(all="ignore"):
+            return fit_grid(self)
+
+
+def _designs(job: _Job) -> list[tuple[np.ndarray, np.ndarray, np.ndarray]]:
+    """For each value of g + delta: both regressor matrices and the masks (economies whose
+    n + g + delta is not positive masked out)."""
+    form, n = job.design.form, len(job.design.y)
+    if NGD not in job.columns:
+        same = (job.design.x_unrestricted, job.design.x_restricted, job.masks)
+        return [same for _ in job.values]
+    workforce = np.exp(job.columns[NGD]) - job.base_gd  # n, the workforce growth
+    out = []
+    for gd in job.values:
+        level = workforce + gd
+        ok = level > 0
+        cols = dict(job.columns, **{NGD: np.log(np.where(ok, level, 1.0))})
+        out.append((regressor_matrix(cols, form.unrestricted, n),
+                    regressor_matrix(cols, form.restricted, n), job.masks * ok[None, :]))
+    return out
+
+
+def _concat(fits: list[BatchFit]) -> BatchFit:
+    return BatchFit(np.vstack([f.coef for f in fits]), np.concatenate([f.cov for f in fits]),
+                    np.concatenate([f.ssr for f in fits]), np.concatenate([f.nobs for f in fits]),
+                    fits[0].covariance)
+
+
+def fit_grid(job: _Job) -> SweepPart:
+    d = job.design
+    k = d.x_unrestricted.shape[1]
+    designs = _designs(job)
+    masks = np.concatenate([m for _, _, m in designs])
+    fitted = (classical_pairs([(xu, xr, m) for xu, xr, m in designs], d.y)
+              if job.covariance == "classical" else None)
+    if fitted is None:
+        pairs = [fit_pair(xu, xr, d.y, job.covariance, weights=m, clusters=_codes(d))
+                 for xu, xr, m in designs]
+        fitted = (_concat([u for u, _ in pairs]), _concat([r for _, r in pairs]))
+    unres, res = fitted
+    implied = implied_batch(d.form, res)
+    nobs = masks.sum(axis=1)
+    if d.form.restricts:
+        r = d.restriction[0]
+        by_entry = np.moveaxis(unres.cov, 0, -1)  # (k, k, B)
+        var = np.tensordot(r, np.tensordot(r, by_entry, axes=(0, 0)), axes=(0, 0))
+        p = chdtrc(1, np.where(var > 0, (unres.coef @ r) ** 2 / var, np.nan))
+    else:
+        p = np.full(len(nobs), np.nan)
+    few = nobs < k + 2
+    bad = few | ~implied.ordinary
+    shown = tuple(q for q in SHOWN if q in implied.names)
+    rows = [implied.row(q) for q in shown]
+    value = np.where(bad, np.nan, implied.value[rows])
+    z = float(ndtri(0.5 + job.confidence / 2))
+    half = z * implied.se[rows]
+    reasons: list[str | None] = [None] * len(nobs)
+    for b in np.flatnonzero(bad):
+        reasons[b] = (f"{int(nobs[b])} economies left, fewer than the {k + 2} the unrestricted "
+                      "equation needs" if few[b] else
+                      "the estimates imply no steady state or no convergence")
+    groups = len(job.labels)
+    return SweepPart(d.equation, d.sample, job.covariance,
+                     np.repeat(np.asarray(job.values, dtype=float), groups),
+                     job.labels * len(job.values), nobs, shown, value, value - half,
+                     value + half, np.where(bad, np.nan, p), tuple(reasons))
+
+
+def _codes(design: Design) -> np.ndarray | None:
+    if design.clusters is None:
+        return None
+    return np.asarray(pd.factorize(pd.Series(design.clusters).astype(str))[0])
+
+
+def sweep_jobs(plan: Plan, settings: Settings) -> list[Callable[[], SweepPart]]:
+    """One job per equation, sample and covariance choice of ``[sweep]``."""
+    sweep = plan.spec.body.sweep
+    assert sweep is not None
+    values = tuple(float(v) for v in (sweep.g_plus_delta or (settings.g_plus_delta,)))
+    covariances = sweep.covariance or (settings.covariance,)
+    frame = plan.table.frame
+    if sweep.drop_each is not None and sweep.drop_each not in frame.columns:
+        raise InputError(f"the data have no column '{quote(sweep.drop_each)}'"
+                         f"{did_you_mean(sweep.drop_each, list(frame.columns))}",
+                         "sweep.drop_each")
+    jobs: list[Callable[[], SweepPart]] = []
+    for cell in plan.cells:
+        d = cell.design
+        if (sweep.equations and d.equation not in sweep.equations) or (
+                sweep.samples and d.sample not in sweep.samples):
+            continue
+        selected = cell.selection.frame
+        columns = {c: selected[c].to_numpy(dtype=float) for c in selected.columns
+                   if not c.startswith("_")}
+        labels: tuple[str | None, ...] = (None,)
+        masks = np.ones((1, len(d.y)))
+        if sweep.drop_each is not None:
+            rows = frame.index.get_indexer(list(d.economies))
+            names, codes = np.unique(frame[sweep.drop_each].to_numpy()[rows].astype(str),
+                                     return_inverse=True)
+            labels += tuple(str(g) for g in names)
+            masks = np.vstack([masks, (codes[None, :] != np.arange(len(names))[:, None])
+                               .astype(float)])
+        jobs += [_Job(d, columns, settings.g_plus_delta, values, cov, masks, labels,
+                      settings.confidence) for cov in covariances]
+    return jobs
+
+
+def summarise_sweep(parts: list[SweepPart], settings: Settings, drop_each: str | None
+                    ) -> SweepFindings:
+    """Every job's specifications in one set of columns, quantities aligned by name."""
+    names = tuple(q for q in SHOWN if any(q in p.quantities for p in parts))
+
+    def aligned(p: SweepPart, field: str) -> np.ndarray:
+        out = np.full((len(names), len(p.nobs)), np.nan)
+        for j, q in enumerate(p.quantities):
+            out[names.index(q)] = getattr(p, field)[j]
+        return out
+
+    def joined(field: str) -> np.ndarray:
+        return (np.hstack([aligned(p, field) for p in parts]) if parts
+                else np.zeros((len(names), 0)))
+
+    shown: dict[str, tuple[str, ...]] = {}
+    for p in parts:
+        shown.setdefault(p.equation, p.quantities)
+    def repeated(field: str) -> tuple[str, ...]:
+        return sum(((getattr(p, field),) * len(p.nobs) for p in parts), ())
+
+    return SweepFindings(
+        repeated("equation"), repeated("sample"),
+        np.concatenate([p.g_plus_delta for p in parts]) if parts else np.zeros(0),
+        repeated("covariance"), sum((p.dropped for p in parts), ()),
+        np.concatenate([p.nobs for p in parts]) if parts else np.zeros(0),
+        names, joined("values"), joined("low"), joined("high"),
+        np.concatenate([p.restriction_p for p in parts]) if parts else np.zeros(0),
+        sum((p.reasons for p in parts), ()), shown, dict(settings.bands),
+        settings.confidence, drop_each)
