@@ -154,6 +154,40 @@ class SweepFindings:
     def __len__(self) -> int:
         return len(self.equation)
 
+    @staticmethod
+    def join(parts: list[SweepFindings], bands: dict[str, tuple[float, float]],
+             confidence: float, drop_each: str | None) -> SweepFindings:
+        """The specifications of every part in one set of columns, quantities aligned by
+        name."""
+        names = tuple(q for q in ("alpha", "beta", "lam")
+                      if any(q in p.quantities for p in parts))
+
+        def aligned(field: str) -> np.ndarray:
+            blocks = []
+            for p in parts:
+                out = np.full((len(names), len(p)), np.nan)
+                for j, q in enumerate(p.quantities):
+                    out[names.index(q)] = getattr(p, field)[j]
+                blocks.append(out)
+            return np.hstack(blocks) if blocks else np.zeros((len(names), 0))
+
+        def flat(field: str) -> np.ndarray:
+            return (np.concatenate([getattr(p, field) for p in parts]) if parts
+                    else np.zeros(0))
+
+        def chained(field: str) -> tuple:  # type: ignore[type-arg]
+            return sum((getattr(p, field) for p in parts), ())
+
+        shown: dict[str, tuple[str, ...]] = {}
+        for p in parts:
+            for eq, qs in p.shown.items():
+                shown.setdefault(eq, qs)
+        return SweepFindings(chained("equation"), chained("sample"), flat("g_plus_delta"),
+                             chained("covariance"), chained("dropped"), flat("nobs"), names,
+                             aligned("values"), aligned("low"), aligned("high"),
+                             flat("restriction_p"), chained("reasons"), shown, bands,
+                             confidence, drop_each)
+
     @property
     def rows(self) -> tuple[SweepRow, ...]:
         """One record per specification (for renderers and notebooks)."""

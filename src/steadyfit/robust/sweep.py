@@ -40,24 +40,6 @@ SHOWN = ("alpha", "beta", "lam")
 
 
 @dataclass(frozen=True, eq=False)
-class SweepPart:
-    """The specifications of one job, column by column (see :class:`SweepFindings`)."""
-
-    equation: str
-    sample: str
-    covariance: str
-    g_plus_delta: np.ndarray
-    dropped: tuple[str | None, ...]
-    nobs: np.ndarray
-    quantities: tuple[str, ...]
-    values: np.ndarray
-    low: np.ndarray
-    high: np.ndarray
-    restriction_p: np.ndarray
-    reasons: tuple[str | None, ...]
-
-
-@dataclass(frozen=True, eq=False)
 class _Job:
     """One equation on one sample under one covariance choice: every value of g + delta and
     every group left out."""
@@ -71,7 +53,7 @@ class _Job:
     labels: tuple[str | None, ...]
     confidence: float
 
-    def __call__(self) -> SweepPart:
+    def __call__(self) -> SweepFindings:
         with np.errstate(all="ignore"):
             return fit_grid(self)
 
@@ -100,7 +82,9 @@ def _concat(fits: list[BatchFit]) -> BatchFit:
                     fits[0].covariance)
 
 
-def fit_grid(job: _Job) -> SweepPart:
+def fit_grid(job: _Job) -> SweepFindings:
+    """Every specification of one job (bands and the drop column are filled in when the
+    jobs' findings are joined)."""
     d = job.design
     k = d.x_unrestricted.shape[1]
     designs = _designs(job)
@@ -133,11 +117,13 @@ def fit_grid(job: _Job) -> SweepPart:
         reasons[b] = (f"{int(nobs[b])} economies left, fewer than the {k + 2} the unrestricted "
                       "equation needs" if few[b] else
                       "the estimates imply no steady state or no convergence")
-    groups = len(job.labels)
-    return SweepPart(d.equation, d.sample, job.covariance,
-                     np.repeat(np.asarray(job.values, dtype=float), groups),
-                     job.labels * len(job.values), nobs, shown, value, value - half,
-                     value + half, np.where(bad, np.nan, p), tuple(reasons))
+    count = len(nobs)
+    return SweepFindings(
+        (d.equation,) * count, (d.sample,) * count,
+        np.repeat(np.asarray(job.values, dtype=float), len(job.labels)),
+        (job.covariance,) * count, job.labels * len(job.values), nobs, shown, value,
+        value - half, value + half, np.where(bad, np.nan, p), tuple(reasons),
+        {d.equation: shown}, {}, job.confidence)
 
 
 def _codes(design: Design) -> np.ndarray | None:
@@ -146,7 +132,7 @@ def _codes(design: Design) -> np.ndarray | None:
     return np.asarray(pd.factorize(pd.Series(design.clusters).astype(str))[0])
 
 
-def sweep_jobs(plan: Plan, settings: Settings) -> list[Callable[[], SweepPart]]:
+def sweep_jobs(plan: Plan, settings: Settings) -> list[Callable[[], SweepFindings]]:
     """One job per equation, sample and covariance choice of ``[sweep]``."""
     sweep = plan.spec.body.sweep
     assert sweep is not None
@@ -157,7 +143,7 @@ def sweep_jobs(plan: Plan, settings: Settings) -> list[Callable[[], SweepPart]]:
         raise InputError(f"the data have no column '{quote(sweep.drop_each)}'"
                          f"{did_you_mean(sweep.drop_each, list(frame.columns))}",
                          "sweep.drop_each")
-    jobs: list[Callable[[], SweepPart]] = []
+    jobs: list[Callable[[], SweepFindings]] = []
     for cell in plan.cells:
         d = cell.design
         if (sweep.equations and d.equation not in sweep.equations) or (
@@ -180,33 +166,7 @@ def sweep_jobs(plan: Plan, settings: Settings) -> list[Callable[[], SweepPart]]:
     return jobs
 
 
-def summarise_sweep(parts: list[SweepPart], settings: Settings, drop_each: str | None
+def summarise_sweep(parts: list[SweepFindings], settings: Settings, drop_each: str | None
                     ) -> SweepFindings:
-    """Every job's specifications in one set of columns, quantities aligned by name."""
-    names = tuple(q for q in SHOWN if any(q in p.quantities for p in parts))
-
-    def aligned(p: SweepPart, field: str) -> np.ndarray:
-        out = np.full((len(names), len(p.nobs)), np.nan)
-        for j, q in enumerate(p.quantities):
-            out[names.index(q)] = getattr(p, field)[j]
-        return out
-
-    def joined(field: str) -> np.ndarray:
-        return (np.hstack([aligned(p, field) for p in parts]) if parts
-                else np.zeros((len(names), 0)))
-
-    shown: dict[str, tuple[str, ...]] = {}
-    for p in parts:
-        shown.setdefault(p.equation, p.quantities)
-    def repeated(field: str) -> tuple[str, ...]:
-        return sum(((getattr(p, field),) * len(p.nobs) for p in parts), ())
-
-    return SweepFindings(
-        repeated("equation"), repeated("sample"),
-        np.concatenate([p.g_plus_delta for p in parts]) if parts else np.zeros(0),
-        repeated("covariance"), sum((p.dropped for p in parts), ()),
-        np.concatenate([p.nobs for p in parts]) if parts else np.zeros(0),
-        names, joined("values"), joined("low"), joined("high"),
-        np.concatenate([p.restriction_p for p in parts]) if parts else np.zeros(0),
-        sum((p.reasons for p in parts), ()), shown, dict(settings.bands),
-        settings.confidence, drop_each)
+    """Every job's specifications in one set of columns, with the run's bands."""
+    return SweepFindings.join(parts, dict(settings.bands), settings.confidence, drop_each)
