@@ -11,7 +11,7 @@ from typing import Literal, get_args
 
 import numpy as np
 import pandas as pd
-from scipy import stats
+from scipy.special import ndtr, ndtri, stdtr, stdtrit
 
 CovarianceName = Literal["classical", "HC0", "HC1", "HC2", "HC3", "cluster"]
 COVARIANCES: tuple[str, ...] = get_args(CovarianceName)
@@ -58,12 +58,14 @@ class Fit:
 
     @property
     def pvalues(self) -> np.ndarray:
-        dist = stats.t(self.df_resid) if self.use_t else stats.norm()
-        return 2 * dist.sf(np.abs(self.tvalues))
+        """Two-sided p-values (the distribution tails of scipy.special, without loading
+        scipy.stats)."""
+        t = -np.abs(self.tvalues)
+        return 2 * (stdtr(self.df_resid, t) if self.use_t else ndtr(t))
 
     def conf_int(self, confidence: float) -> np.ndarray:
-        dist = stats.t(self.df_resid) if self.use_t else stats.norm()
-        q = dist.ppf(0.5 + confidence / 2)
+        level = 0.5 + confidence / 2
+        q = stdtrit(self.df_resid, level) if self.use_t else ndtri(level)
         return np.column_stack([self.coef - q * self.se, self.coef + q * self.se])
 
     def params(self) -> pd.Series:
