@@ -219,3 +219,27 @@ def test_implied_alpha_of_the_draws_matches_the_one_fit_path():
     # the wild draws centre on the restricted fit: their mean alpha is near the estimate
     alpha = draws.value[draws.names.index("alpha")]
     assert np.mean(alpha) == pytest.approx(shares[0].estimate.value, abs=0.02)
+
+
+def test_a_bootstrap_over_four_clusters_gives_no_interval(tmp_path):
+    """Resampling 4 regions gives only a few dozen distinct estimates: no interval is formed,
+    and the reason says why."""
+    spec = write_demo(tmp_path / "d")
+    text = spec.read_text().split("# Robustness")[0].replace(
+        'covariance = "HC1"', 'covariance = "cluster"\ncluster = "region"')
+    spec.write_text(text + "\n[bootstrap]\nreplications = 499\nseed = 2\n")
+    found = steadyfit.run(spec)
+    alpha = found.result("with_schooling", "all").bootstrap.interval("alpha")
+    assert alpha.percentile is None and "distinct values" in alpha.reason
+
+
+def test_the_half_life_is_mapped_from_lambda_and_unbounded_past_zero():
+    from steadyfit.robust.bootstrap import _half_life
+    from steadyfit.robust.results import BootstrapInterval
+
+    lam = BootstrapInterval("lam", 0.01, 0.004, (-0.002, 0.02), (0.001, 0.021), None)
+    half = _half_life(lam)
+    assert half.estimate == pytest.approx(math.log(2) / 0.01)
+    assert half.percentile == (pytest.approx(math.log(2) / 0.02), math.inf)
+    assert half.bias_corrected == pytest.approx((math.log(2) / 0.021, math.log(2) / 0.001))
+    assert half.studentised is None

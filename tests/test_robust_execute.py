@@ -68,3 +68,13 @@ def test_a_missing_dask_package_is_said_plainly(monkeypatch):
 
     with pytest.raises(InputError, match="distributed"):
         run_jobs([_Sleep(1, 0.0)], Execution(scheduler="tcp://127.0.0.1:1"))
+
+
+def test_an_unreachable_scheduler_is_said_plainly(monkeypatch):
+    pytest.importorskip("distributed")
+    from steadyfit.errors import InputError
+
+    monkeypatch.setattr(execute, "CONNECT_SECONDS", 1)
+    with pytest.raises(InputError) as err:
+        run_jobs([_Sleep(1, 0.0)], Execution(scheduler="tcp://127.0.0.1:9"))
+    assert "--scheduler" in str(err.value) and "cannot reach" in str(err.value)

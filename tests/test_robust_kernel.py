@@ -156,3 +156,15 @@ def test_both_fits_of_a_cell_share_their_cross_products(covariance):
             ref = fit_ols(y[idx[b]], x[idx[b]], names, names, covariance)
             _close(ref, batch.coef[b], batch.cov[b])
     assert combination(x_u, np.column_stack([x_r, x_u[:, 1] ** 2])) is None
+
+
+def test_too_few_clusters_give_no_covariance():
+    """G clusters give a covariance of rank at most G - 1: with G no larger than the number
+    of coefficients the kernel returns no number (the one-fit rule of steadyfit.estimators)."""
+    rng = np.random.default_rng(21)
+    x, y = _design(rng, 40, 4)
+    few = fit_batch(x, y, "cluster", weights=np.ones((3, 40)), clusters=rng.integers(0, 4, 40))
+    assert np.isnan(few.cov).all() and np.isfinite(few.coef).all()
+    enough = fit_batch(x, y, "cluster", weights=np.ones((1, 40)),
+                       clusters=rng.integers(0, 12, 40))
+    assert np.isfinite(enough.cov).all()

@@ -141,3 +141,34 @@ def test_sweep_refusals_name_the_key(tmp_path, text, key, words):
     with pytest.raises(steadyfit.InputError) as err:
         steadyfit.run(spec)
     assert key in str(err.value) and words in str(err.value)
+
+
+def test_check_refuses_a_missing_drop_column(tmp_path):
+    spec = write_demo(tmp_path / "d")
+    spec.write_text(spec.read_text().split("# Robustness")[0]
+                    + '\n[sweep]\ndrop_each = "colour"\n')
+    with pytest.raises(steadyfit.InputError, match="sweep.drop_each"):
+        steadyfit.plan(spec)
+
+
+def test_economies_without_a_group_are_never_a_group(tmp_path):
+    spec = write_demo(tmp_path / "d")
+    data = pd.read_csv(spec.parent / "demo_economies.csv")
+    data.loc[:4, "region"] = np.nan
+    data.to_csv(spec.parent / "demo_economies.csv", index=False)
+    spec.write_text(spec.read_text().split("# Robustness")[0]
+                    + '\n[sweep]\nequations = ["physical_only"]\ndrop_each = "region"\n')
+    found = steadyfit.run(spec)
+    assert "nan" not in {r.dropped for r in found.sweep.rows}
+
+
+def test_a_g_plus_delta_that_makes_n_g_delta_negative_is_refused(tmp_path):
+    spec = write_demo(tmp_path / "d")
+    spec.write_text(spec.read_text().split("# Robustness")[0]
+                    + '\n[sweep]\ng_plus_delta = [0.001]\n')
+    data = pd.read_csv(spec.parent / "demo_economies.csv")
+    data.loc[0, "workforce_growth"] = -0.5  # percent a year
+    data.to_csv(spec.parent / "demo_economies.csv", index=False)
+    with pytest.raises(steadyfit.InputError) as err:
+        steadyfit.run(spec)
+    assert "sweep.g_plus_delta" in str(err.value) and data.economy[0] in str(err.value)

@@ -20,7 +20,7 @@ from .anchor import MEASURED_SHARE_CAVEAT, anchored, covariance_with_alpha, meas
 from .consistency import consistency_checks
 from .data import SHARE_COLUMN, EconomyTable, Selection, load_data, select
 from .design import Design, build_design
-from .errors import EstimationError, quote
+from .errors import EstimationError, InputError, did_you_mean, quote
 from .estimators import fit_ols
 from .findings import (
     EquationFindings,
@@ -103,6 +103,12 @@ def plan(spec: Spec | str | Path) -> Plan:
             capital = (None if measured is None else 1.0 - table.frame[SHARE_COLUMN].reindex(
                 list(design.economies)).to_numpy(dtype=float))
             cells.append(PlannedCell(selection, design, eq.structural, measured, capital))
+    sweep = spec.body.sweep
+    if sweep is not None and sweep.drop_each is not None and \
+            sweep.drop_each not in table.frame.columns:
+        raise InputError(f"the data have no column '{quote(sweep.drop_each)}'"
+                         f"{did_you_mean(sweep.drop_each, list(table.frame.columns))}",
+                         "sweep.drop_each")
     return Plan(spec, table, tuple(cells), tuple(panels))
 
 
@@ -257,14 +263,20 @@ def caveats(spec: Spec, table: EconomyTable) -> tuple[str, ...]:
     if b.data.columns.labour_share is not None:
         out.append(MEASURED_SHARE_CAVEAT)
     if b.bootstrap is not None:
-        what = ("economies (whole clusters under cluster covariance) with replacement"
-                if b.bootstrap.method == "pairs" else
-                "the restricted fit's residuals times random signs (one per cluster under "
-                "cluster covariance), so the data obey the restriction")
-        out.append(f"Bootstrap intervals redraw {what}, {b.bootstrap.replications} times with "
-                   f"seed {b.bootstrap.seed}; they treat the economies (or clusters) as "
-                   "independent draws from one population, which a cross-section of countries "
-                   "is not, and they say nothing about errors in the data themselves.")
+        if b.bootstrap.method == "pairs":
+            what = ("economies (whole clusters under cluster covariance) with replacement; "
+                    "they treat the economies (or clusters) as independent draws from one "
+                    "population, which a cross-section of countries is not")
+        else:
+            weights = ("random signs" if b.bootstrap.wild_weights == "rademacher"
+                       else "Mammen's two-point weights")
+            what = (f"the restricted fit's residuals times {weights} (one per cluster under "
+                    "cluster covariance), keeping every economy and its regressors, so the "
+                    "data obey the restriction; they treat the residuals as independent "
+                    "(within clusters, as one)")
+        out.append(f"Bootstrap intervals redraw {what}. {b.bootstrap.replications} draws, seed "
+                   f"{b.bootstrap.seed}. They say nothing about errors in the data "
+                   "themselves.")
     out.append("Cross-country regressions describe associations across economies; they do not "
                "by themselves say what a policy would do in any one of them.")
     return tuple(out)

@@ -30,7 +30,7 @@ same way:
                        the draws' standard deviation, ``restriction_bootstrap_p``
 ``<q>_leave_one_``     with ``[influence]``: the largest shift in ``alpha``, ``beta`` or
 ``out_max``            ``lam`` from leaving one economy out (signed);
-                       ``influential_economies`` how many move a quantity beyond its threshold
+                       ``influential_economies`` how many the analysis names
 ``measured_capital_``  ``measured_capital_share``: one minus the mean labour share of the
 ``share``              economies used (``_se`` of that mean), where the data carry one;
                        ``alpha_gap`` implied alpha minus it (``_se``), ``alpha_gap_p`` the
@@ -231,8 +231,7 @@ def _collect(r: EquationFindings) -> tuple[dict[str, float | None], dict[str, st
             put(f"{name}_leave_one_out_max",
                 float(inf.shifts[j][np.nanargmax(row)]) if finite.any() else math.nan,
                 "no fit without one economy implies ordinary parameters")
-        put("influential_economies", float(sum(bool(e.moves) or not e.ordinary
-                                                for e in inf.named)))
+        put("influential_economies", float(len(inf.named)))
     c = r.crosscheck
     if c is not None:
         put("crosscheck_gap", c.gap.value, c.gap.reason)

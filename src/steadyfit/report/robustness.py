@@ -33,9 +33,9 @@ def _delta(r: EquationFindings, name: str) -> tuple[float, float] | None:
 
 
 def bootstrap_table(findings: Findings) -> Table | None:
-    """Each bootstrapped quantity: estimate, delta-method interval, the percentile,
-    bias-corrected and studentised intervals, and the draws' standard deviation; a row for the
-    restriction's asymptotic and bootstrap p-values.  None without a bootstrap."""
+    """Each bootstrapped quantity: estimate, the draws' standard deviation, the delta-method
+    interval and the percentile, bias-corrected and studentised intervals.  None without a
+    bootstrap."""
     cells = [r for r in findings.results if r.bootstrap is not None]
     if not cells:
         return None
@@ -50,35 +50,50 @@ def bootstrap_table(findings: Findings) -> Table | None:
         for i in b.intervals:
             x = EXTRA_DIGITS.get(i.name, 0)
             reasons.add(i.reason, r.heading)
-            estimate = (Cell("number", i.estimate, i.spread, extra_digits=x)
-                        if i.estimate == i.estimate else Cell("text", NOT_AVAILABLE))
+            number = i.estimate == i.estimate
             rows.append(Row(r.heading if first else "", (
-                Cell("text", quantity_label(i.name)), estimate,
+                Cell("text", quantity_label(i.name)),
+                Cell("number", i.estimate, extra_digits=x) if number
+                else Cell("text", NOT_AVAILABLE),
+                Cell("number", i.spread, extra_digits=x) if i.spread == i.spread
+                else Cell("text", PLACEHOLDER),
                 _interval(_delta(r, i.name), x), _interval(i.percentile, x),
                 _interval(i.bias_corrected, x), _interval(i.studentised, x))))
             first = False
-        if b.restriction is not None and r.wald_test is not None:
-            rows.append(Row(r.heading if first else "", (
-                Cell("text", "restriction p"), Cell("text", PLACEHOLDER),
-                test_cell(r.wald_test, False, reasons, r.heading),
-                test_cell(b.restriction, False, reasons, r.heading),
-                Cell("text", PLACEHOLDER), Cell("text", PLACEHOLDER))))
     pct = round(findings.settings.confidence * 100)
     method = "; ".join(dict.fromkeys(descriptions))
     notes = [
-        f"{method[0].upper()}{method[1:]}. Intervals at {pct}% from the draws whose parameters "
-        "are ordinary (a steady state and, for growth forms, convergence): percentile; "
+        f"{method[0].upper()}{method[1:]}. Intervals at {pct}% from every draw that gives the "
+        "quantity a number (draws implying no steady state or divergence included): "
+        "percentile; "
         "bias-corrected (shifted by the share of draws below the estimate); studentised "
-        "(each draw divided by its own delta-method standard error). In parentheses: the "
-        "standard deviation of the draws.",
-        "Restriction p: the asymptotic p-value of the Wald test (delta column) and its "
-        "bootstrap p-value (percentile column), the share of draws whose statistic is at "
-        "least the sample's; the pairs bootstrap recentres each draw at the sample's "
-        "restriction value, the wild bootstrap draws under the restriction.",
+        "(each draw divided by its own delta-method standard error). Draws' s.d.: the "
+        "standard deviation of the draws. The half-life's intervals are those of the speed "
+        "of convergence mapped through ln 2 / speed.",
     ]
-    cols = (("quantity",), ("estimate",), (f"{pct}% delta",), ("percentile",),
-            ("bias-corrected",), ("studentised",))
+    cols = (("quantity",), ("estimate",), ("draws' s.d.",), (f"{pct}% delta",),
+            ("percentile",), ("bias-corrected",), ("studentised",))
     return Table("bootstrap", "Bootstrap intervals", "equation / sample", cols, tuple(rows),
+                 tuple(notes + reasons.notes()))
+
+
+def bootstrap_restriction_table(findings: Findings) -> Table | None:
+    """The restriction's Wald statistic with its asymptotic and bootstrap p-values."""
+    reasons = Reasons()
+    rows = [Row(r.heading, (test_cell(r.wald_test, True, reasons, r.heading),
+                            test_cell(r.wald_test, False, reasons, r.heading),
+                            test_cell(r.bootstrap.restriction, False, reasons, r.heading)))
+            for r in findings.results if r.bootstrap is not None
+            and r.bootstrap.restriction is not None and r.wald_test is not None]
+    if not rows:
+        return None
+    notes = ["Wald test of the restriction under the run's covariance (the key results' "
+             "verdict uses the F test). Bootstrap p: the share of draws whose statistic is at "
+             "least the sample's; the pairs bootstrap recentres each draw at the sample's "
+             "restriction value, the wild bootstrap draws under the restriction."]
+    return Table("bootstrap_restriction", "Restriction test: asymptotic and bootstrap",
+                 "equation / sample", (("Wald statistic",), ("asymptotic p",),
+                                       ("bootstrap p",)), tuple(rows),
                  tuple(notes + reasons.notes()))
 
 
@@ -107,7 +122,8 @@ def influence_table(findings: Findings) -> Table | None:
         for j, e in enumerate(inf.named[:LISTED]):
             shifts = [Cell("number", e.shifts[q], extra_digits=EXTRA_DIGITS.get(q, 0))
                       if q in e.shifts and e.shifts[q] == e.shifts[q] else
-                      Cell("text", "no steady state" if not e.ordinary else PLACEHOLDER)
+                      Cell("text", "no steady state or convergence" if not e.ordinary
+                           else PLACEHOLDER)
                       for q in quantities]
             rows.append(Row(r.heading if j == 0 else "", (
                 Cell("text", e.economy), *shifts,
@@ -128,11 +144,11 @@ def influence_table(findings: Findings) -> Table | None:
         "Cook's distance (restricted fit) exceeds 4/n (common practice, no source), or "
         "without which no steady state is implied; the largest effect first, at most "
         f"{LISTED} a result.",
-        "Restriction p: the Wald test of the restriction without the economy, under the "
-        "run's covariance.",
+        "Wald p: the restriction's Wald test without the economy, under the run's covariance "
+        "(the key results' verdict uses the F test).",
     ]
     cols = (("economy left out",), *((f"shift in {quantity_label(q)}",) for q in quantities),
-            ("restriction p",), ("Cook's distance",))
+            ("Wald p",), ("Cook's distance",))
     return Table("influence", "Influential economies", "equation / sample", cols, tuple(rows),
                  tuple(notes))
 
@@ -164,7 +180,7 @@ def sweep_table(findings: Findings) -> Table | None:
             )))
             first = False
         rejected, tested = s.share_rejecting(eq, level)
-        rows.append(Row("", (Cell("text", "restriction rejected"),
+        rows.append(Row("", (Cell("text", "restriction rejected (Wald)"),
                              Cell("text", f"{rejected} of {tested}" if tested else
                                   PLACEHOLDER),
                              *(Cell("text", PLACEHOLDER) for _ in range(4)))))
@@ -179,7 +195,9 @@ def sweep_table(findings: Findings) -> Table | None:
              "whose estimates imply ordinary parameters. Band: how many "
              f"{round(s.confidence * 100)}% delta-method intervals overlap the plausible band. "
              f"Restriction: Wald tests rejecting at the {level:.0%} level under each "
-             "specification's covariance."]
+             "specification's covariance (the key results' verdict uses the F test). "
+             "Specifications that differ only in their covariance share their estimate, so "
+             "the range counts it once per covariance choice."]
     cols = (("quantity",), ("fitted",), ("lowest",), ("median",), ("highest",),
             ("interval overlaps band",))
     return Table("sweep", "Specification sweep", "equation", cols, tuple(rows), tuple(notes))
@@ -195,7 +213,8 @@ def sensitivity_table(findings: Findings) -> Table | None:
     values = list(dict.fromkeys(r.g_plus_delta for r in s.rows))
     if len(values) < 2:
         return None
-    cov = findings.settings.covariance
+    tried = list(dict.fromkeys(s.covariance))
+    cov = findings.settings.covariance if findings.settings.covariance in tried else tried[0]
     base = [r for r in s.rows if r.dropped is None and r.covariance == cov]
     cells = list(dict.fromkeys((r.equation, r.sample) for r in base))
     rows = []
@@ -210,14 +229,16 @@ def sensitivity_table(findings: Findings) -> Table | None:
                 Cell("number", by_gd[g].values[q], interval=by_gd[g].intervals[q],
                      extra_digits=x) if g in by_gd and by_gd[g].reason is None
                 else Cell("text", NOT_AVAILABLE) for g in values))))
-        rows.append(Row("", (Cell("text", "restriction p"), *(
+        rows.append(Row("", (Cell("text", "Wald p"), *(
             Cell("pvalue", by_gd[g].restriction_p) if g in by_gd and
             by_gd[g].restriction_p is not None else Cell("text", PLACEHOLDER)
             for g in values))))
     notes = [f"Each column refits every equation with that value of g + \u03b4 (the run uses "
-             f"{findings.settings.g_plus_delta:g}), under the run's covariance and with every "
-             f"economy; {round(s.confidence * 100)}% delta-method intervals below. The "
-             "restriction test can move with g + \u03b4, which is an assumption, not data."]
+             f"{findings.settings.g_plus_delta:g}), under the {cov} covariance and with every "
+             f"economy; {round(s.confidence * 100)}% delta-method intervals below. Wald p: the "
+             "restriction's Wald test under that covariance (the key results' verdict uses "
+             "the F test). The restriction test can move with g + \u03b4, which is an "
+             "assumption, not data."]
     cols = (("quantity",), *((f"g + \u03b4 = {g:g}",) for g in values))
     return Table("g_plus_delta_sensitivity", "Sensitivity to g + \u03b4", "equation / sample",
                  cols, tuple(rows), tuple(notes))

@@ -556,10 +556,17 @@ def beside_shares(findings: Findings) -> list[Table]:
     national-accounts anchor, bootstrap intervals, influential economies, the specification
     sweep and the sensitivity to g + delta."""
     from .anchor import anchor_table
-    from .robustness import bootstrap_table, influence_table, sensitivity_table, sweep_table
+    from .robustness import (
+        bootstrap_restriction_table,
+        bootstrap_table,
+        influence_table,
+        sensitivity_table,
+        sweep_table,
+    )
 
     return [t for t in (anchor_table(findings), bootstrap_table(findings),
-                        influence_table(findings), sweep_table(findings),
+                        bootstrap_restriction_table(findings), influence_table(findings),
+                        sweep_table(findings),
                         sensitivity_table(findings)) if t is not None]
 
 

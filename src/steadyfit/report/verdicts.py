@@ -122,11 +122,13 @@ def influence_phrase(r: EquationFindings) -> str:
     assert inf is not None
     movers = [e for e in inf.named if e.moves or not e.ordinary]
     if not movers:
-        return (f"leaving out any one economy moves no share by more than {inf.threshold:g}"
-                + (f" nor {LAMBDA} by more than {inf.speed_threshold:g}"
-                   if "lam" in inf.quantities else ""))
+        limits = ([f"no share by more than {inf.threshold:g}"]
+                  if any(q != "lam" for q in inf.quantities) else [])
+        if "lam" in inf.quantities:
+            limits.append(f"{LAMBDA} by no more than {inf.speed_threshold:g}")
+        return "leaving out any one economy moves " + " and ".join(limits or ["nothing"])
     top = movers[0]
-    what = ("implies no steady state" if not top.ordinary else ", ".join(
+    what = ("implies no steady state or convergence" if not top.ordinary else ", ".join(
         f"{quantity_label(q)} by {'+' if top.shifts[q] > 0 else ''}"
         f"{format_number(top.shifts[q], 4 if q == 'lam' else 3)}" for q in top.moves))
     more = (f" ({len(movers)} economies move a quantity beyond its threshold)"

@@ -16,10 +16,14 @@ bit for bit, whether chunks run here, in forked processes or on a cluster.
   refitted.  The data are generated under the restriction, so the unrestricted
   fits give the restriction test's null distribution directly.
 
-Intervals, from the draws whose parameters are ordinary: percentile;
+Intervals, from every draw that gives the quantity a number (a draw implying no
+steady state or divergence is still a draw of the estimator): percentile;
 bias-corrected (the percentile interval shifted by the share of draws below the
 estimate; no acceleration); studentised (each draw's statistic divided by its own
-delta-method standard error).  The restriction's bootstrap p-value is the share
+delta-method standard error).  The half-life's intervals are lambda's mapped through
+``ln 2 / lam``, unbounded above where lambda's reach zero.  With fewer than
+:data:`MIN_DISTINCT` distinct values among the draws (a few clusters) no interval is
+given.  The restriction's bootstrap p-value is the share
 of draws whose Wald statistic is at least the sample's, ``(1 + count)/(1 + B)``.
 """
 
@@ -35,7 +39,7 @@ from scipy.special import ndtr, ndtri
 
 from ..design import Design
 from ..estimators import CovarianceName, Fit
-from ..findings import EquationFindings, TestResult
+from ..findings import EquationFindings, Estimate, TestResult
 from .choices import BootstrapMethod, WildWeights
 from .kernel import BatchFit, classical_pair_in_blocks, fit_pair, implied_batch
 from .results import BootstrapFindings, BootstrapInterval
@@ -251,16 +255,56 @@ def studentised_interval(draws: np.ndarray, draw_se: np.ndarray, estimate: float
 # --- summary -----------------------------------------------------------------------------------
 
 
-def _quantity_draws(draws: Draws, name: str) -> tuple[np.ndarray, np.ndarray]:
-    """A quantity's draws and their standard errors; the half-life maps lambda's
-    (``ln 2 / lam``, standard error ``ln 2 / lam^2`` times lambda's)."""
-    if name == "half_life":
-        i = draws.names.index("lam")
-        lam, se = draws.value[i], draws.se[i]
-        with np.errstate(divide="ignore", invalid="ignore"):
-            return math.log(2) / lam, math.log(2) / lam ** 2 * se
-    i = draws.names.index(name)
-    return draws.value[i], draws.se[i]
+# fewer distinct values than this among the draws: too few resampling units (few clusters)
+# for an interval to mean anything (common practice, no source)
+MIN_DISTINCT = 100
+
+
+def _half_life(lam: BootstrapInterval) -> BootstrapInterval:
+    """The half-life's intervals mapped from lambda's through ``ln 2 / lam`` (decreasing):
+    unbounded above where lambda's interval reaches zero or below (no convergence)."""
+    def mapped(pair: tuple[float, float] | None) -> tuple[float, float] | None:
+        if pair is None:
+            return None
+        lo, hi = pair
+        return (math.log(2) / hi if hi > 0 else math.inf,
+                math.log(2) / lo if lo > 0 else math.inf)
+
+    value = math.log(2) / lam.estimate if lam.estimate > 0 else math.nan
+    return BootstrapInterval("half_life", value, math.nan, mapped(lam.percentile),
+                             mapped(lam.bias_corrected), mapped(lam.studentised),
+                             lam.reason)
+
+
+def _interval(name: str, values: np.ndarray, ses: np.ndarray, est: Estimate, tail: float,
+              level: float) -> BootstrapInterval:
+    """One quantity's intervals from every draw where it has a number: a draw whose
+    parameters are not ordinary (no steady state, divergence) is still a draw of the
+    estimator and stays in."""
+    finite = np.isfinite(values)
+    v, s = values[finite], ses[finite]
+    total = len(values)
+    spread = float(np.std(v, ddof=1)) if len(v) > 1 else math.nan
+    missing = total - len(v)
+    if missing > tail * total or len(v) < 2:
+        return BootstrapInterval(name, est.value, spread, None, None, None,
+                                 f"{missing} of {total} draws give no number, more than the "
+                                 f"{tail:.1%} each end of the interval rests on")
+    distinct = len(np.unique(np.round(v, 12)))
+    if distinct < MIN_DISTINCT:
+        return BootstrapInterval(name, est.value, spread, None, None, None,
+                                 f"the draws take only {distinct} distinct values (too few "
+                                 "economies or clusters to resample), so no interval")
+    se = est.se if est.has_se else math.nan
+    s = np.where(np.isfinite(s) & (s > 1e-12 * max(abs(est.value), 1.0)), s, np.nan)
+    student = studentised_interval(v, s, est.value, se, level)
+    percentile, bias = percentile_and_bias_corrected(v, est.value, level)
+    reasons = [why for why, missing_one in (
+        ("the estimate has no standard error, so no studentised interval", student is None),
+        ("every draw lies on one side of the estimate, so no bias-corrected interval",
+         bias is None)) if missing_one]
+    return BootstrapInterval(name, est.value, spread, percentile, bias, student,
+                             "; ".join(reasons) or None)
 
 
 def summarise(draws: Draws, found: EquationFindings, settings: BootstrapSettings,
@@ -269,42 +313,27 @@ def summarise(draws: Draws, found: EquationFindings, settings: BootstrapSettings
     p-value, from the draws (see the module docstring)."""
     level = settings.confidence
     tail = (1 - level) / 2
-    total = len(draws.ordinary)
-    ok = draws.ordinary
-    failed = int(total - ok.sum())
     estimates = {v.estimate.name: v.estimate for v in found.shares}
     estimates.update({e.name: e for e in found.speed})
-    names = [*draws.names, *(("half_life",) if "lam" in draws.names else ())]
     rows = []
-    for name in names:
+    for i, name in enumerate(draws.names):
         est = estimates.get(name)
         if est is None or not est.has_value:
             why = found.problem or (est.reason if est is not None else None) or "not estimated"
             rows.append(BootstrapInterval(name, math.nan, math.nan, None, None, None,
                                           f"no estimate to bootstrap ({why})"))
             continue
-        values, ses = _quantity_draws(draws, name)
-        v, s = (values, ses) if failed == 0 else (values[ok], ses[ok])
-        spread = float(np.std(v, ddof=1)) if len(v) > 1 else math.nan
-        if failed > tail * total or len(v) < 2:
-            rows.append(BootstrapInterval(
-                name, est.value, spread, None, None, None,
-                f"{failed} of {total} draws imply no steady state or no convergence, more than "
-                f"the {tail:.1%} each end of the interval rests on"))
-            continue
-        se = est.se if est.has_se else math.nan
-        student = studentised_interval(v, s, est.value, se, level)
-        percentile, bias = percentile_and_bias_corrected(v, est.value, level)
-        reasons = [why for why, missing in (
-            ("the estimate has no standard error, so no studentised interval", student is None),
-            ("every draw lies on one side of the estimate, so no bias-corrected interval",
-             bias is None)) if missing]
-        rows.append(BootstrapInterval(name, est.value, spread, percentile, bias, student,
-                                      "; ".join(reasons) or None))
+        rows.append(_interval(name, draws.value[i], draws.se[i], est, tail, level))
+    lam = next((r for r in rows if r.name == "lam"), None)
+    if lam is not None:
+        rows.append(_half_life(lam) if lam.estimate == lam.estimate else
+                    BootstrapInterval("half_life", math.nan, math.nan, None, None, None,
+                                      lam.reason))
     return BootstrapFindings(settings.method,
                              settings.weights if settings.method == "wild" else None,
-                             by_cluster, total, settings.seed, level, int(ok.sum()),
-                             tuple(rows), _restriction(draws, found))
+                             by_cluster, len(draws.ordinary), settings.seed, level,
+                             int(draws.ordinary.sum()), tuple(rows),
+                             _restriction(draws, found))
 
 
 def _restriction(draws: Draws, found: EquationFindings) -> TestResult | None:

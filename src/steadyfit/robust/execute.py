@@ -22,6 +22,8 @@ T = TypeVar("T")
 
 # the bar appears once the work has run this long (seconds)
 SHOW_AFTER = 1.0
+# how long to try reaching a Dask scheduler before saying it cannot be reached (seconds)
+CONNECT_SECONDS = 10
 
 
 @dataclass(frozen=True)
@@ -104,7 +106,14 @@ def _on_dask(jobs: list[Callable[[], T]], address: str, bar: _Bar) -> list[T]:
         raise InputError("running on a Dask scheduler needs the optional package "
                          "'distributed' (pip install \"steadyfit[distributed]\")",
                          "--scheduler") from None
-    with Client(address) as client:
+    try:
+        client = Client(address, timeout=CONNECT_SECONDS)
+    except (OSError, ValueError, TypeError) as exc:
+        from ..errors import InputError
+
+        raise InputError(f"cannot reach a Dask scheduler at '{address}' ({exc}); give its "
+                         "address as tcp://host:port", "--scheduler") from None
+    with client:
         futures = client.map(_call, jobs, pure=False)
         order = {f.key: i for i, f in enumerate(futures)}
         out: list[Any] = [None] * len(jobs)

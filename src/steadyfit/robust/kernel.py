@@ -199,6 +199,9 @@ def fit_batch(x: np.ndarray, y: np.ndarray, covariance: CovarianceName = "classi
                 n_clusters = np.full(draws, float(groups))
         scale = n_clusters / (n_clusters - 1) * (nobs - 1) / df
         cov = scale[:, None, None] * (inv @ meat @ inv)
+        # G clusters give a covariance of rank at most G - 1: singular with G <= k, so no
+        # number comes from it (steadyfit.estimators.covariance_problem, the one-fit rule)
+        cov[n_clusters <= k] = np.nan
     else:
         squared = resid ** 2
         if covariance in ("HC2", "HC3"):

@@ -26,7 +26,7 @@ from scipy.special import chdtrc, ndtri
 
 from ..data import LOG_COLUMNS
 from ..design import Design, regressor_matrix
-from ..errors import InputError, did_you_mean, quote
+from ..errors import InputError, quote
 from ..estimators import CovarianceName
 from .kernel import BatchFit, classical_pairs, fit_pair, implied_batch
 from .results import SweepFindings
@@ -117,6 +117,9 @@ def fit_grid(job: _Job) -> SweepFindings:
         reasons[b] = (f"{int(nobs[b])} economies left, fewer than the {k + 2} the unrestricted "
                       "equation needs" if few[b] else
                       "the estimates imply no steady state or no convergence")
+    for b in np.flatnonzero(~bad & ~np.isfinite(half).all(axis=0)):
+        reasons[b] = ("no interval or test: the covariance cannot be computed here (under "
+                      "cluster covariance, too few clusters for the coefficients)")
     count = len(nobs)
     return SweepFindings(
         (d.equation,) * count, (d.sample,) * count,
@@ -139,10 +142,7 @@ def sweep_jobs(plan: Plan, settings: Settings) -> list[Callable[[], SweepFinding
     values = tuple(float(v) for v in (sweep.g_plus_delta or (settings.g_plus_delta,)))
     covariances = sweep.covariance or (settings.covariance,)
     frame = plan.table.frame
-    if sweep.drop_each is not None and sweep.drop_each not in frame.columns:
-        raise InputError(f"the data have no column '{quote(sweep.drop_each)}'"
-                         f"{did_you_mean(sweep.drop_each, list(frame.columns))}",
-                         "sweep.drop_each")
+    refuse = plan.spec.body.data.non_positive == "error"
     jobs: list[Callable[[], SweepFindings]] = []
     for cell in plan.cells:
         d = cell.design
@@ -154,16 +154,37 @@ def sweep_jobs(plan: Plan, settings: Settings) -> list[Callable[[], SweepFinding
                    if not c.startswith("_")}
         labels: tuple[str | None, ...] = (None,)
         masks = np.ones((1, len(d.y)))
+        if refuse and NGD in columns:
+            _refuse_non_positive(columns[NGD], settings.g_plus_delta, values, d)
         if sweep.drop_each is not None:
             rows = frame.index.get_indexer(list(d.economies))
-            names, codes = np.unique(frame[sweep.drop_each].to_numpy()[rows].astype(str),
+            groups = pd.Series(frame[sweep.drop_each].to_numpy()[rows])
+            present = groups.notna().to_numpy()  # an economy without a group is never left out
+            names, codes = np.unique(groups[present].astype(str).to_numpy(),
                                      return_inverse=True)
+            full = np.full(len(groups), -1)
+            full[present] = codes
             labels += tuple(str(g) for g in names)
-            masks = np.vstack([masks, (codes[None, :] != np.arange(len(names))[:, None])
+            masks = np.vstack([masks, (full[None, :] != np.arange(len(names))[:, None])
                                .astype(float)])
         jobs += [_Job(d, columns, settings.g_plus_delta, values, cov, masks, labels,
                       settings.confidence) for cov in covariances]
     return jobs
+
+
+def _refuse_non_positive(ln_ngd: np.ndarray, base: float, values: tuple[float, ...],
+                         design: Design) -> None:
+    """With data.non_positive = "error": a value of g + delta at which an economy's
+    n + g + delta is not positive stops the run, naming both."""
+    workforce = np.exp(ln_ngd) - base
+    for gd in values:
+        bad = np.flatnonzero(workforce + gd <= 0)
+        if len(bad):
+            raise InputError(
+                f"at g + delta = {gd:g}, economy '{quote(design.economies[bad[0]])}' has "
+                f"n + g + delta = {workforce[bad[0]] + gd:.4g} <= 0 in {design.where}; "
+                "choose larger values or set data.non_positive = \"drop\"",
+                "sweep.g_plus_delta")
 
 
 def summarise_sweep(parts: list[SweepFindings], settings: Settings, drop_each: str | None
