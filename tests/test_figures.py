@@ -72,6 +72,8 @@ def many(demo_folder, tmp_path_factory):
     }).to_csv(folder / "many.csv", index=False)
     body = tomllib.loads((demo_folder / "demo.toml").read_text(encoding="utf-8"))
     body["data"]["file"] = str(folder / "many.csv")
+    for section in ("bootstrap", "influence"):  # the figures are what is tested here
+        body.pop(section, None)
     return steadyfit.run(steadyfit.spec_from_dict(body, folder))
 
 
