@@ -227,6 +227,18 @@ def test_without_a_labour_share_nothing_changes(tmp_path):
 # --- annual data: averaged within economies over the span, and per panel ------------------
 
 
+def _annual_spec(folder: Path) -> None:
+    """The annual demo spec reading ``annual.csv`` in ``folder``, with its ``labsh`` column
+    as the labour share (fractions)."""
+    text = ANNUAL_SPEC.read_text().replace("../src/steadyfit/demo/annual_economies.csv",
+                                           "annual.csv")
+    text = text.replace('schooling = "enrolment" }', 'schooling = "enrolment", '
+                        'labour_share = "labsh" }')
+    text = text.replace('schooling = "percent" }', 'schooling = "percent", '
+                        'labour_share = "fraction" }')
+    (folder / "spec.toml").write_text(text)
+
+
 @pytest.fixture(scope="module")
 def annual(tmp_path_factory):
     folder = tmp_path_factory.mktemp("anchor_annual")
@@ -235,13 +247,7 @@ def annual(tmp_path_factory):
     data["labsh"] = (0.6 + rng.normal(0, 0.04, len(data))).round(3)
     data.loc[rng.uniform(size=len(data)) < 0.1, "labsh"] = np.nan  # gaps are skipped
     data.to_csv(folder / "annual.csv", index=False)
-    text = ANNUAL_SPEC.read_text().replace("../src/steadyfit/demo/annual_economies.csv",
-                                           "annual.csv")
-    text = text.replace('schooling = "enrolment" }', 'schooling = "enrolment", '
-                        'labour_share = "labsh" }')
-    text = text.replace('schooling = "percent" }', 'schooling = "percent", '
-                        'labour_share = "fraction" }')
-    (folder / "spec.toml").write_text(text)
+    _annual_spec(folder)
     return data, steadyfit.run(folder / "spec.toml")
 
 
@@ -334,12 +340,6 @@ def test_sparse_annual_labour_shares_are_named(tmp_path):
     first = data.economy.iloc[0]
     data.loc[(data.economy == first) & (data.year != 1999), "labsh"] = np.nan
     data.to_csv(tmp_path / "annual.csv", index=False)
-    text = ANNUAL_SPEC.read_text().replace("../src/steadyfit/demo/annual_economies.csv",
-                                           "annual.csv")
-    text = text.replace('schooling = "enrolment" }', 'schooling = "enrolment", '
-                        'labour_share = "labsh" }')
-    text = text.replace('schooling = "percent" }', 'schooling = "percent", '
-                        'labour_share = "fraction" }')
-    (tmp_path / "spec.toml").write_text(text)
+    _annual_spec(tmp_path)
     table = steadyfit.plan(tmp_path / "spec.toml").table
     assert any(f"'{first}' (1 of 41 years)" in w for w in table.warnings)

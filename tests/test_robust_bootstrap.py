@@ -68,6 +68,13 @@ def test_studentised_interval_by_hand():
     assert studentised_interval(draws, ses, 0.31, math.nan, 0.95) is None
 
 
+def _fits(y, x_u, x_r, covariance):
+    """The unrestricted and restricted one-fit references (statsmodels)."""
+    names_u, names_r = ("c", "k", "n", "h"), ("c", "k", "h")
+    return (fit_ols(y, x_u, names_u, names_u, covariance),
+            fit_ols(y, x_r, names_r, names_r, covariance))
+
+
 class _Design:
     """What the bootstrap reads of a design (no spec or data file needed)."""
 
@@ -105,9 +112,7 @@ def test_wild_draws_give_the_restrictions_null_distribution():
     3.84 (scipy)."""
     form = get_form("levels:physical+human_rate")
     y, x_u, x_r = augmented_sample(np.random.default_rng(5), 150)
-    names_u, names_r = ("c", "k", "n", "h"), ("c", "k", "h")
-    unres = fit_ols(y, x_u, names_u, names_u, "HC1")
-    res = fit_ols(y, x_r, names_r, names_r, "HC1")
+    unres, res = _fits(y, x_u, x_r, "HC1")
     draws = run_draws(_Design(y, x_u, x_r, form), res, unres, "HC1",
                       BootstrapSettings("wild", "mammen", 4000, seed=3))
     assert np.mean(draws.wald) == pytest.approx(1.0, abs=0.15)
@@ -193,9 +198,7 @@ def test_dask_cluster_gives_what_the_local_executor_gives():
     distributed = pytest.importorskip("distributed")
     form = get_form("levels:physical+human_rate")
     y, x_u, x_r = augmented_sample(np.random.default_rng(2), 80)
-    names_u, names_r = ("c", "k", "n", "h"), ("c", "k", "h")
-    unres = fit_ols(y, x_u, names_u, names_u, "HC1")
-    res = fit_ols(y, x_r, names_r, names_r, "HC1")
+    unres, res = _fits(y, x_u, x_r, "HC1")
     jobs = draw_jobs(_Design(y, x_u, x_r, form), res, unres, "HC1",
                      BootstrapSettings("pairs", "rademacher", 60_000, seed=4))
     local = Draws.join(run_jobs(jobs, Execution()))
