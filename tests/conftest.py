@@ -84,3 +84,21 @@ def augmented_sample(rng, n: int, noise: float = 0.35):
     y = 8 + (a * sk + b * sh - (a + b) * ngd) / (1 - a - b) + rng.normal(0, noise, n)
     return y, np.column_stack([np.ones(n), sk, ngd, sh]), np.column_stack(
         [np.ones(n), sk - ngd, sh - ngd])
+
+
+def restricted_sample(form, rng, n: int, growth_slopes=None):
+    """A restricted design of ``form`` (constant first) with log-scale regressors, and a
+    response from known slopes (uniform 0.2 to 0.5; growth forms: log initial income near 8
+    with slope -0.3, or ``growth_slopes`` for every slope)."""
+    import numpy as np
+
+    k = len(form.restricted) + 1
+    x = np.column_stack([np.ones(n), rng.normal(-2.0, 0.5, size=(n, k - 1))])
+    truth = np.concatenate([[3.0], rng.uniform(0.2, 0.5, k - 1)])
+    if form.form == "growth":
+        x[:, 1] = rng.normal(8.0, 1.0, n)
+        if growth_slopes is None:
+            truth[1] = -0.3
+        else:
+            truth[1:] = growth_slopes
+    return x, x @ truth + rng.normal(0, 0.3, n)

@@ -20,6 +20,7 @@ import pytest
 from scipy import stats
 
 import steadyfit
+from conftest import restricted_sample
 from steadyfit.anchor import (
     MEASURED_SHARE_CAVEAT,
     covariance_with_alpha,
@@ -95,12 +96,7 @@ def test_covariance_with_alpha_is_the_sandwich_of_both_contributions(key):
     form = get_form(key, 25.0)
     rng = np.random.default_rng(2)
     n, k = 70, len(form.restricted) + 1
-    x = np.column_stack([np.ones(n), rng.normal(-2.0, 0.5, size=(n, k - 1))])
-    truth = np.concatenate([[3.0], rng.uniform(0.2, 0.5, k - 1)])
-    if form.form == "growth":
-        x[:, 1] = rng.normal(8.0, 1.0, n)
-        truth[1:] = [-0.3, 0.08, 0.06]
-    y = x @ truth + rng.normal(0, 0.3, n)
+    x, y = restricted_sample(form, rng, n, [-0.3, 0.08, 0.06])
     names = tuple(f"x{j}" for j in range(k))
     fit = fit_ols(y, x, names, names, "HC0")
     alpha = implied_parameters(form, fit, 0.95, {}, {})[0][0].estimate

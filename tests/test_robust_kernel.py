@@ -10,6 +10,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
+from conftest import restricted_sample
 from steadyfit.equations import FORM_KEYS, get_form
 from steadyfit.estimators import COVARIANCES, fit_ols
 from steadyfit.inference import implied_parameters
@@ -116,12 +117,7 @@ def test_implied_parameters_match_the_one_fit_delta_method(key):
     form = get_form(key, 25.0)
     rng = np.random.default_rng(5)
     n, k = 80, len(form.restricted) + 1
-    x = np.column_stack([np.ones(n), rng.normal(-2.0, 0.5, size=(n, k - 1))])
-    truth = np.concatenate([[3.0], rng.uniform(0.2, 0.5, k - 1)])
-    if form.form == "growth":
-        x[:, 1] = rng.normal(8.0, 1.0, n)
-        truth[1] = -0.3
-    y = x @ truth + rng.normal(0, 0.3, n)
+    x, y = restricted_sample(form, rng, n)
     idx = rng.integers(0, n, size=(15, n))
     batch = fit_batch(x, y, "HC1", weights=_counts(idx, n))
     implied = implied_batch(form, batch)
