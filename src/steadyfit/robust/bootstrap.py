@@ -34,14 +34,13 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
-import pandas as pd
 from scipy.special import ndtr, ndtri
 
 from ..design import Design
 from ..estimators import CovarianceName, Fit
 from ..findings import EquationFindings, Estimate, TestResult
 from .choices import BootstrapMethod, WildWeights
-from .kernel import BatchFit, classical_pair_in_blocks, fit_pair, implied_batch
+from .kernel import BatchFit, classical_pair_in_blocks, cluster_codes, fit_pair, implied_batch
 from .results import BootstrapFindings, BootstrapInterval
 
 # Draws per chunk, the unit of seeding and of parallel work: about 2 million row weights per
@@ -92,12 +91,6 @@ class Draws:
                      np.concatenate([p.wald for p in parts]))
 
 
-def _codes(design: Design) -> np.ndarray | None:
-    if design.clusters is None:
-        return None
-    return np.asarray(pd.factorize(pd.Series(design.clusters).astype(str))[0])
-
-
 def _wild_weights(rng: np.random.Generator, kind: str, shape: tuple[int, int]) -> np.ndarray:
     if kind == "rademacher":
         return rng.choice(np.array([-1.0, 1.0]), size=shape)
@@ -120,7 +113,7 @@ def draw_chunk(design: Design, restricted: Fit, unrestricted: Fit, covariance: C
     """Chunk ``index`` of the bootstrap of one cell (see the module docstring)."""
     size = settings.chunks(len(design.y))[index]
     rng = np.random.default_rng(np.random.SeedSequence(settings.seed).spawn(index + 1)[index])
-    codes = _codes(design)
+    codes = cluster_codes(design.clusters)
     x_r, x_u, y = design.x_restricted, design.x_unrestricted, design.y
     n = len(y)
     if settings.method == "pairs":

@@ -21,13 +21,12 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
-import pandas as pd
 from scipy.special import chdtrc
 
 from ..design import Design
 from ..estimators import CovarianceName, Fit
 from ..findings import EquationFindings
-from .kernel import fit_pair, implied_batch
+from .kernel import cluster_codes, fit_pair, implied_batch
 from .results import InfluenceFindings, InfluentialEconomy
 
 # economies left out per job: about 5 million row weights per block
@@ -47,12 +46,6 @@ class LeaveOut:
     wald: np.ndarray
 
 
-def _codes(design: Design) -> np.ndarray | None:
-    if design.clusters is None:
-        return None
-    return np.asarray(pd.factorize(pd.Series(design.clusters).astype(str))[0])
-
-
 def leave_out_block(design: Design, covariance: CovarianceName, start: int, stop: int
                     ) -> LeaveOut:
     """The fits without each economy ``start``..``stop - 1`` of the design."""
@@ -61,7 +54,7 @@ def leave_out_block(design: Design, covariance: CovarianceName, start: int, stop
     masks[np.arange(stop - start), np.arange(start, stop)] = 0.0
     with np.errstate(all="ignore"):
         unres, res = fit_pair(design.x_unrestricted, design.x_restricted, design.y, covariance,
-                              weights=masks, clusters=_codes(design))
+                              weights=masks, clusters=cluster_codes(design.clusters))
         implied = implied_batch(design.form, res)
         if design.form.restricts:
             r = design.restriction[0]

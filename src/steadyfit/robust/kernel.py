@@ -25,6 +25,7 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 
 import numpy as np
+import pandas as pd
 
 from ..equations import ModelForm
 from ..estimators import CovarianceName
@@ -57,6 +58,13 @@ class BatchFit:
     def __repr__(self) -> str:
         return (f"BatchFit({self.draws} fits of {self.coef.shape[1]} coefficients, "
                 f"{self.covariance} covariance)")
+
+
+def cluster_codes(clusters: np.ndarray | None) -> np.ndarray | None:
+    """Cluster labels (compared as text) as integer codes 0..G-1, in order of appearance."""
+    if clusters is None:
+        return None
+    return np.asarray(pd.factorize(pd.Series(clusters).astype(str))[0])
 
 
 def _outer_rows(x: np.ndarray) -> np.ndarray:

@@ -28,7 +28,7 @@ from ..data import LOG_COLUMNS
 from ..design import Design, regressor_matrix
 from ..errors import InputError, quote
 from ..estimators import CovarianceName
-from .kernel import BatchFit, classical_pairs, fit_pair, implied_batch
+from .kernel import BatchFit, classical_pairs, cluster_codes, fit_pair, implied_batch
 from .results import SweepFindings
 
 if TYPE_CHECKING:
@@ -92,7 +92,8 @@ def fit_grid(job: _Job) -> SweepFindings:
     fitted = (classical_pairs([(xu, xr, m) for xu, xr, m in designs], d.y)
               if job.covariance == "classical" else None)
     if fitted is None:
-        pairs = [fit_pair(xu, xr, d.y, job.covariance, weights=m, clusters=_codes(d))
+        codes = cluster_codes(d.clusters)
+        pairs = [fit_pair(xu, xr, d.y, job.covariance, weights=m, clusters=codes)
                  for xu, xr, m in designs]
         fitted = (_concat([u for u, _ in pairs]), _concat([r for _, r in pairs]))
     unres, res = fitted
@@ -127,12 +128,6 @@ def fit_grid(job: _Job) -> SweepFindings:
         (job.covariance,) * count, job.labels * len(job.values), nobs, shown, value,
         value - half, value + half, np.where(bad, np.nan, p), tuple(reasons),
         {d.equation: shown}, {}, job.confidence)
-
-
-def _codes(design: Design) -> np.ndarray | None:
-    if design.clusters is None:
-        return None
-    return np.asarray(pd.factorize(pd.Series(design.clusters).astype(str))[0])
 
 
 def sweep_jobs(plan: Plan, settings: Settings) -> list[Callable[[], SweepFindings]]:
