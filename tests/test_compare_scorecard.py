@@ -299,9 +299,9 @@ def test_compare_reads_a_version_2_record(verdict_runs, tmp_path):
 
 
 @pytest.mark.parametrize("version, words", [
-    (4, "has format_version 4 (written by a newer steadyfit); this steadyfit reads format "
-        "versions 2 and 3"),
-    (1, "has format_version 1; this steadyfit reads format versions 2 and 3"),
+    (5, "has format_version 5 (written by a newer steadyfit); this steadyfit reads format "
+        "versions 2, 3 and 4"),
+    (1, "has format_version 1; this steadyfit reads format versions 2, 3 and 4"),
 ])
 def test_compare_refuses_other_format_versions(two_runs, tmp_path, capsys, version, words):
     from steadyfit.cli import main

@@ -123,9 +123,10 @@ def test_hostile_ids_run_and_render(tmp_path, capsys, case):
     folder = _run(spec, root, capsys)
 
     record = json.loads((folder / "results.json").read_text(encoding="utf-8"))
+    members = {x["name"]: x["members"] for x in record["samples"]}
     for result in record["results"]:
-        economies = result["economies"]
         dropped_ids = [d["economy"] for d in result["dropped"]]
+        economies = [e for e in members[result["sample"]] if e not in dropped_ids]
         for name in used:
             assert name in economies, f"{name!r} not among the economies used: {economies}"
             assert name not in dropped_ids
@@ -184,7 +185,7 @@ def test_other_delimiters_give_the_same_estimates(tmp_path, capsys, delimiter):
         record = json.loads((folder / "results.json").read_text(encoding="utf-8"))
         result = record["results"][0]
         estimates[label] = (result["quantities"]["alpha"], result["observations"],
-                            sorted(result["economies"]))
+                            sorted(record["samples"][0]["members"]))
     if delimiter == ";":
         assert ";" in (tmp_path / "other" / "economies.csv").read_text(encoding="utf-8")
     assert estimates["other"][1:] == estimates["comma"][1:]

@@ -47,7 +47,10 @@ def test_results_json_holds_the_numbers_and_provenance(demo_findings, tmp_path):
     alpha = next(s for s in r["implied_shares"] if s["name"] == "alpha")
     assert alpha["value"] == ours.share("alpha").estimate.value
     assert r["restriction_tests"]["f"]["p"] == ours.f_test.pvalue
-    assert r["observations"] == 80 and len(r["economies"]) == 80
+    sample = next(x for x in record["samples"] if x["name"] == "no_resource_exporters")
+    dropped = {d["economy"] for d in r["dropped"]}
+    assert r["observations"] == 80
+    assert [e for e in sample["members"] if e not in dropped] == list(ours.economies)
     assert [c["name"] for c in r["unrestricted"]["coefficients"]] == [
         "const", "ln_sk", "ln_ngd", "ln_sh"]
 

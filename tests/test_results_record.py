@@ -71,7 +71,7 @@ def _keys(node):
 
 def test_demo_record_uses_steadyfits_own_keys(demo_record, validator):
     findings, record = demo_record
-    assert record["format_version"] == FORMAT_VERSION == 3
+    assert record["format_version"] == FORMAT_VERSION == 4
     assert not OLD_KEYS & set(_keys(record))
     assert _errors(validator, record) == []
     res = {(r["equation"], r["sample"]): r for r in record["results"]}
@@ -170,6 +170,12 @@ def _as_version_2(record):
     """A version-2 record written by hand: the keys renamed back, the new settings gone."""
     old = copy.deepcopy(record)
     old["format_version"] = 2
+    members = {x["name"]: x.pop("members") for x in old["samples"]}
+    for x in old["samples"]:
+        del x["members_sha256"], x["members_reason"]
+    for r in old["results"]:
+        dropped = {d["economy"] for d in r["dropped"]}
+        r["economies"] = [e for e in members[r["sample"]] if e not in dropped]
     fit_keys = {"observations": "nobs", "residual_df": "df_resid", "r_squared": "r2",
                 "adjusted_r_squared": "adj_r2", "residual_sd": "ser",
                 "residual_sum_of_squares": "ssr"}
@@ -208,9 +214,9 @@ def test_version_2_is_read_into_the_current_layout(demo_record, validator):
 
 
 @pytest.mark.parametrize("version, words", [
-    (4, "has format_version 4 (written by a newer steadyfit)"),
+    (5, "has format_version 5 (written by a newer steadyfit)"),
     (1, "has format_version 1;"),
-    ("3", 'has format_version "3";'),
+    ("4", 'has format_version "4";'),
     (None, "has no format_version"),
 ])
 def test_other_versions_are_refused(demo_record, version, words):
@@ -220,5 +226,5 @@ def test_other_versions_are_refused(demo_record, version, words):
     with pytest.raises(UnreadableVersion) as exc:
         upgrade_record(record)
     assert words in str(exc.value)
-    assert str(exc.value).endswith("this steadyfit reads format versions 2 and 3")
-    assert READABLE_VERSIONS == (2, 3)
+    assert str(exc.value).endswith("this steadyfit reads format versions 2, 3 and 4")
+    assert READABLE_VERSIONS == (2, 3, 4)

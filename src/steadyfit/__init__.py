@@ -19,6 +19,7 @@ __version__ = "0.1.0"
 _EXPORTS = {
     "run": ("steadyfit.pipeline", "run"),
     "plan": ("steadyfit.pipeline", "plan"),
+    "build_analysis": ("steadyfit.analysis", "build_analysis"),
     "load_spec": ("steadyfit.spec", "load_spec"),
     "spec_from_dict": ("steadyfit.spec", "spec_from_dict"),
     "write_run": ("steadyfit.report.runfolder", "write_run"),

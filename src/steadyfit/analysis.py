@@ -14,7 +14,7 @@ estimated.
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Mapping
+from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, replace
 from typing import TYPE_CHECKING, Literal
 
@@ -34,6 +34,17 @@ if TYPE_CHECKING:
 Role = Literal["id", "variable", "filter", "cluster", "log", "derived", "sample", "used"]
 
 GROWTH_COLUMN = "ln_growth"
+
+# Above this many economies a run folder keeps no economy-level copies: no analysis.csv and
+# no economy lists in results.json or the report (their count and a SHA-256 digest instead),
+# so the folder stays small whatever the size of the data.  At this size the analysis data
+# take about 10 MB as CSV (a choice of this project, no source).
+LISTED_ECONOMIES = 50_000
+
+
+def listing_limit() -> int:
+    """:data:`LISTED_ECONOMIES`, read when called (tests lower it)."""
+    return LISTED_ECONOMIES
 
 # short names of the model variables, for table rows
 _SHORT = {"income": "income per worker", "income_start": "initial income per worker",
@@ -106,9 +117,12 @@ class AnalysisData:
     def sample_column(self, sample: str) -> str:
         return next(c.column for c in self.with_role("sample") if c.sample == sample)
 
-    def members(self, sample: str) -> pd.DataFrame:
-        """The rows of the economies in ``sample`` (its filter), all columns."""
-        return self.frame[self.frame[self.sample_column(sample)] == 1]
+    def members(self, sample: str, columns: Sequence[str] | None = None) -> pd.DataFrame:
+        """The rows of the economies in ``sample`` (its filter): the ``columns`` asked for
+        (default: all)."""
+        mask = self.frame[self.sample_column(sample)].to_numpy() == 1
+        chosen = self.frame if columns is None else self.frame[list(columns)]
+        return chosen.loc[mask]
 
     def regressors(self, sample: str) -> tuple[str, ...]:
         """The unrestricted regressor columns of the equations estimated on ``sample``."""
@@ -242,7 +256,7 @@ def build_analysis(plan: Plan) -> AnalysisData:
             frame[GROWTH_COLUMN])
 
     values = {c: frame[c].to_numpy(dtype=float) for c in canonical if c in frame.columns}
-    for reg in _derived(c.design.form.unrestricted + c.design.form.restricted for c in cells):
+    for reg in _derived(c.form.unrestricted + c.form.restricted for c in cells):
         column = regressor_matrix(values, (reg,), len(frame))[:, 1]
         parts = [table.variables[_variable_of(c)] for c in reg.weights]
         canonical[reg.name] = add(ColumnInfo(
@@ -262,33 +276,35 @@ def build_analysis(plan: Plan) -> AnalysisData:
     estimations: list[Estimation] = []
     index = frame.index
     for c in cells:
-        d, sel = c.design, c.selection
-        positions = index.get_indexer(list(sel.economies))
+        sel, form, equation = c.selection, c.form, c.equation
+        positions = sel.rows
         in_s = member[sel.sample]
         if int(in_s.sum()) != sel.n_in_sample or not in_s[positions].all():
             raise RuntimeError(f"internal error: the members of sample '{sel.sample}' differ "
-                               f"from those of {d.where}")
+                               f"from those of {c.where}")
         used = np.zeros(len(frame), dtype=np.int8)
         used[positions] = 1
         name = add(ColumnInfo(
-            f"used_{d.equation}_{d.sample}", "used",
-            f"1 when the economy was used in estimating equation '{d.equation}' on sample "
-            f"'{d.sample}', else 0", "0/1", "",
+            f"used_{equation}_{sel.sample}", "used",
+            f"1 when the economy was used in estimating equation '{equation}' on sample "
+            f"'{sel.sample}', else 0", "0/1", "",
             "1 when in the sample and every value the equation needs is present (and positive "
             "where a log is taken)" + (", the cluster included" if cluster else ""),
-            f"used in {d.equation} on {d.sample}",
-            equation=d.equation, sample=d.sample), used)
+            f"used in {equation} on {sel.sample}",
+            equation=equation, sample=sel.sample), used)
         estimations.append(Estimation(
-            d.equation, d.sample, name, canonical[d.form.dependent],
-            tuple(canonical[r.name] for r in d.form.unrestricted),
-            tuple(canonical[r.name] for r in d.form.restricted)))
+            equation, sel.sample, name, canonical[form.dependent],
+            tuple(canonical[r.name] for r in form.unrestricted),
+            tuple(canonical[r.name] for r in form.restricted)))
 
-    data = pd.DataFrame(out, index=index).iloc[np.flatnonzero(rows)].reset_index(drop=True)
+    kept = np.flatnonzero(rows)
+    data = pd.DataFrame(out, index=index, copy=False)  # shares the table's columns
+    if len(kept) < len(frame):
+        data = data.iloc[kept]
+    data = data.reset_index(drop=True)
     renamed = data.rename(columns={v: k for k, v in canonical.items()})
-    ids = pd.Index(data[infos[0].column])
-    for c in cells:
-        positions = ids.get_indexer(list(c.selection.economies))
-        _check_design(renamed, positions, c.design)
+    for c in cells:  # the selection's rows, as positions among the rows kept
+        _check_design(renamed, np.searchsorted(kept, c.selection.rows), c.design)
     return AnalysisData(data, tuple(infos), tuple(estimations), infos[0].column)
 
 

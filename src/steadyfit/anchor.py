@@ -47,7 +47,7 @@ MEASURED_SHARE_CAVEAT = (
     "income.")
 
 
-def measured_share(labour: pd.Series, economies: Sequence[str], column: str,
+def measured_share(labour: pd.Series, economies: Sequence[str] | pd.Index, column: str,
                    years: tuple[int, int] | None = None) -> MeasuredShare:
     """The mean measured capital share (one minus the labour share) over ``economies``.
 
@@ -55,7 +55,10 @@ def measured_share(labour: pd.Series, economies: Sequence[str], column: str,
     known); economies without one are left out of the mean and counted.
     """
     n_sample = len(economies)
-    values = labour.reindex(list(economies)).dropna().to_numpy(dtype=float)
+    wanted = economies if isinstance(economies, pd.Index) else pd.Index(list(economies))
+    chosen = labour if labour.index.equals(wanted) else labour.reindex(wanted)
+    values = chosen.to_numpy(dtype=float)
+    values = values[~np.isnan(values)]
     n = len(values)
     nothing = dict(value=math.nan, se=math.nan, lowest=math.nan, highest=math.nan)
     if n == 0:

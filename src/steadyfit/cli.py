@@ -162,9 +162,8 @@ def _check(spec_path: Path) -> int:
         say(f"{name}: {sel.n_in_sample} economies (filter: {sel.filter or 'all'})", "  ", "    ")
     print("\nwould estimate:")
     for c in p.cells:
-        d = c.design
         extra = " (+ nonlinear least squares)" if c.structural else ""
-        say(f"{d.equation} [{d.form.key}] on {d.sample}: {d.nobs} economies, "
+        say(f"{c.equation} [{c.form.key}] on {c.selection.sample}: {c.selection.nobs} economies, "
             f"{len(c.selection.dropped)} dropped{extra}", "  ", "    ")
         for drop in c.selection.dropped:
             say(f"{drop.economy}: {drop.reason}", "      - ", "        ")

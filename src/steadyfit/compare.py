@@ -242,6 +242,18 @@ def _verdict_changes(rec_a: dict[str, Any], rec_b: dict[str, Any],
     return tuple(sorted(out, key=lambda v: order[(v.equation, v.sample)]))  # by cell
 
 
+def _economies_of(record: dict[str, Any], cell: dict[str, Any]) -> set[str] | tuple[Any, ...]:
+    """The economies one result used: its sample's members less the economies it dropped;
+    where the sample was too large to list, the sample's digest and the dropped economies
+    stand for them."""
+    dropped = {d.get("economy") for d in cell.get("dropped", []) if isinstance(d, dict)}
+    sample = next((x for x in record.get("samples", [])
+                   if isinstance(x, dict) and x.get("name") == cell.get("sample")), {})
+    if sample.get("members") is not None:
+        return set(sample["members"]) - dropped
+    return (sample.get("members_sha256"), tuple(sorted(map(str, dropped))))
+
+
 def compare_runs(a: str | Path, b: str | Path, tolerance: float = 1e-9) -> Comparison:
     """Every setting, input and quantity that differs between two runs (absolute tolerance)."""
     if tolerance < 0:
@@ -262,10 +274,13 @@ def compare_runs(a: str | Path, b: str | Path, tolerance: float = 1e-9) -> Compa
     changes = []
     for key in (k for k in cells_a if k in cells_b):
         ra, rb = cells_a[key], cells_b[key]
-        ea, eb = set(ra.get("economies", [])), set(rb.get("economies", []))
-        if ea != eb:
-            economies.append((f"{key[0]} / {key[1]}", tuple(sorted(eb - ea)),
-                              tuple(sorted(ea - eb))))
+        ea, eb = _economies_of(rec_a, ra), _economies_of(rec_b, rb)
+        if isinstance(ea, set) and isinstance(eb, set):
+            if ea != eb:
+                economies.append((f"{key[0]} / {key[1]}", tuple(sorted(eb - ea)),
+                                  tuple(sorted(ea - eb))))
+        elif ea != eb:  # a digest on one side at least: the lists are not in the records
+            economies.append((f"{key[0]} / {key[1]}", (), ()))
         qa, qb = ra.get("quantities", {}), rb.get("quantities", {})
         for q in dict.fromkeys([*qa, *qb]):
             if _differs(qa.get(q), qb.get(q), tolerance):
@@ -306,7 +321,9 @@ def comparison_tables(c: Comparison, verdicts_only: bool = False) -> tuple[Any, 
         for cell, added, removed in c.economies:
             text = "; ".join(p for p in (
                 f"added in B: {', '.join(added)}" if added else "",
-                f"missing in B: {', '.join(removed)}" if removed else "") if p)
+                f"missing in B: {', '.join(removed)}" if removed else "") if p) or (
+                "the economies differ (too many to list: told apart by their SHA-256 digest "
+                "and the economies dropped)")
             rows_list.append(Row(cell, (Cell("text", text),)))
         tables.append(Table("samples", "Equations and economies that differ",
                             "equation / sample", (("difference",),), tuple(rows_list)))

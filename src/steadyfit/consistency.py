@@ -23,9 +23,10 @@ the two fits have coefficients, say) gives no standard error and no test.
 from __future__ import annotations
 
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 
 import numpy as np
+import pandas as pd
 
 from .equations import get_form
 from .estimators import cluster_count, covariance_problem
@@ -94,7 +95,7 @@ def consistency_checks(results: tuple[EquationFindings, ...],
 def _checks_for_pair(lv: EquationFindings, g: EquationFindings, span: float,
                      settings: Settings) -> list[ConsistencyCheck]:
     ca, cb = lv.restricted.coef, g.restricted.coef
-    joint = lv.economies == g.economies
+    joint = _same(lv.economies, g.economies)
     cross = _cross_cov(lv, g, settings.covariance) if joint else np.zeros((len(ca), len(cb)))
     cov = np.block([[lv.restricted.cov, cross], [cross.T, g.restricted.cov]])
     n_clusters = (cluster_count(lv.observations.clusters) if settings.covariance == "cluster"
@@ -170,3 +171,9 @@ def _compare(lv: EquationFindings, g: EquationFindings, name: str,
                      f"{what} from the growth form = {what} from the levels form")
     return ConsistencyCheck(lv.sample, lv.equation, g.equation, name, estimates[0],
                             estimates[1], estimates[2], test, joint, n_clusters)
+
+
+def _same(a: Sequence[str], b: Sequence[str]) -> bool:
+    """Whether two results used the same economies in the same order (compared as whole
+    arrays)."""
+    return len(a) == len(b) and pd.Index(a).equals(pd.Index(b))

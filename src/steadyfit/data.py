@@ -20,7 +20,7 @@ import pandas as pd
 
 from .equations import ModelForm
 from .errors import InputError, did_you_mean, quote
-from .filters import evaluate_filter, parse_filter, referenced_columns
+from .filters import Node, evaluate_filter, parse_filter, referenced_columns
 from .spec import UNIT_VARIABLES, Spec
 
 if TYPE_CHECKING:
@@ -47,6 +47,10 @@ SHARE_COLUMN = "_labour_share"
 # Labour shares outside this range are possible but rare enough to check (common practice, no
 # source): a warning names the economies.
 USUAL_LABOUR_SHARE = (0.2, 0.95)
+
+
+# the end of the reason of an economy dropped before the sample filter (not a member)
+FILTER_READS = "which the sample filter reads"
 
 
 @dataclass(frozen=True)
@@ -88,17 +92,46 @@ class Selection:
 
     sample: str
     filter: str
-    frame: pd.DataFrame  # canonical columns (and cluster column) of the economies used
+    source: pd.DataFrame = field(repr=False)  # the table's rows (shared, never copied)
+    columns: tuple[str, ...]  # the canonical columns the form needs
+    cluster: str | None  # the cluster column under cluster-robust covariance
     n_in_sample: int
     dropped: tuple[Dropped, ...]
+    used: np.ndarray = field(repr=False)  # True on the table's rows of the economies used
+    in_sample: np.ndarray = field(repr=False)  # True on the rows of the sample's economies
 
     @property
-    def economies(self) -> tuple[str, ...]:
-        return tuple(self.frame.index)
+    def rows(self) -> np.ndarray:
+        """The economies used, as positions in the table's rows."""
+        return np.flatnonzero(self.used)
+
+    @property
+    def members(self) -> np.ndarray:
+        """The economies in the sample (used or not), as positions in the table's rows."""
+        return np.flatnonzero(self.in_sample)
+
+    def column(self, name: str) -> np.ndarray:
+        """One column's values over the economies used."""
+        return self.source[name].to_numpy()[self.used]
+
+    @property
+    def frame(self) -> pd.DataFrame:
+        """The canonical columns (and the cluster as ``_cluster``) of the economies used,
+        made when asked for."""
+        out = self.source[list(self.columns)].loc[self.used]
+        if self.cluster is not None:
+            out = out.assign(_cluster=self.column(self.cluster))
+        return out
+
+    @property
+    def economies(self) -> pd.Index:
+        """The economies used, in the table's order (an index, never copied element by
+        element)."""
+        return self.source.index[self.used]
 
     @property
     def nobs(self) -> int:
-        return len(self.frame)
+        return int(np.count_nonzero(self.used))
 
 
 # What a CSV cell may hold for "missing" (the usual spellings); ids never use this list:
@@ -210,15 +243,20 @@ def _check_ids(raw: pd.DataFrame, id_column: str, name: str) -> tuple[pd.Index, 
     """Economy ids as text: blanks refused, duplicates refused (also after trimming spaces),
     ids equal after case folding warned about."""
     ids = raw[id_column]
-    text = ids.astype(str).where(ids.notna(), "")
-    blank = (text.str.strip() == "").to_numpy()
+    text = ids.astype(str)
+    if ids.isna().any():
+        text = text.where(ids.notna(), "")
+    trimmed = text.str.strip()
+    blank = (trimmed == "").to_numpy()
     if blank.any():
         row = int(np.flatnonzero(blank)[0]) + 2
         raise InputError(f"the economy id is empty in line {row} of '{name}'", "data.id")
+    index = pd.Index(text, name="economy")
+    if not _folded(trimmed).duplicated().any():  # no id equals another, trimmed or folded
+        return index, []
     dup = text[text.duplicated()]
     if len(dup):
         raise InputError(f"economy '{quote(dup.iloc[0])}' appears more than once", "data.id")
-    trimmed = text.str.strip()
     twins = trimmed[trimmed.duplicated(keep=False)]
     if len(twins):
         pair = [text[i] for i in twins.index[:2]]
@@ -231,7 +269,17 @@ def _check_ids(raw: pd.DataFrame, id_column: str, name: str) -> tuple[pd.Index, 
         pair = [text[i] for i in same.index[:2]]
         warnings.append(f"data.id: economies '{quote(pair[0])}' and '{quote(pair[1])}' differ "
                         "only in upper and lower case; check that they are different economies")
-    return pd.Index(text, name="economy"), warnings
+    return index, warnings
+
+
+def _folded(text: pd.Series) -> pd.Series:
+    """Ids case-folded: lower case (a whole-column operation) where they are ASCII, where the
+    two agree; Python's case folding for the others."""
+    folded = text.str.lower()
+    other = ~text.str.fullmatch(r"[\x00-\x7f]*").to_numpy(dtype=bool)
+    if other.any():
+        folded = folded.where(~other, text.str.casefold())
+    return folded
 
 
 def load_data(spec: Spec) -> EconomyTable:
@@ -252,7 +300,7 @@ def load_data(spec: Spec) -> EconomyTable:
         raise InputError(f"the data have no column '{quote(body.data.id)}'"
                          f"{did_you_mean(body.data.id, columns)}", "data.id")
     index, warnings = _check_ids(raw, body.data.id, path.name)
-    frame = raw.copy()
+    frame = raw.copy(deep=False)  # columns are replaced, never changed in place
     frame.index = index
 
     variables = {k: v for k, v in body.data.columns.model_dump().items() if v is not None}
@@ -301,12 +349,12 @@ def add_log_columns(frame: pd.DataFrame, variables: Mapping[str, str], percent: 
             continue
         if var == "workforce_growth":
             values = values + g_plus_delta
+        level = values.to_numpy(dtype=float)
         with np.errstate(divide="ignore", invalid="ignore"):
-            frame[LOG_COLUMNS[var]] = np.where(values > 0, np.log(values.where(values > 0)),
-                                               np.nan)
-        frame[f"_{var}_level"] = values
+            frame[LOG_COLUMNS[var]] = np.where(level > 0, np.log(level), np.nan)
+        frame[f"_{var}_level"] = level
     if "ln_y" in frame.columns and "ln_y0" in frame.columns:
-        frame["ln_growth"] = frame["ln_y"] - frame["ln_y0"]
+        frame["ln_growth"] = frame["ln_y"].to_numpy() - frame["ln_y0"].to_numpy()
 
 
 def check_labour_share(values: pd.Series, col: str, unit: str) -> list[str]:
@@ -369,11 +417,12 @@ def check_values(values: pd.Series, var: str, col: str, codes_declared: bool) ->
         economy = values.index[inf][0]
         raise InputError(f"economy '{quote(economy)}' has the infinite value {values[economy]}",
                          where)
-    present = values.dropna()
-    if present.empty:
+    array = values.to_numpy(dtype=float)
+    if np.isnan(array).all():
         raise InputError("every value of the column is missing", where)
-    if codes_declared:  # the user said which values are codes: every other value is data
-        return
+    if codes_declared or not np.isin(array, _CODES).any():
+        return  # declared codes: every other value is data
+    present = values.dropna()
     suspects = present[present.isin(_CODES)]
     if var in ("income", "income_start", "human_stock"):
         # levels: a positive all-nines value is only a code when far from the others
@@ -459,6 +508,14 @@ def _non_positive(var: str, value: float, level: float, g_plus_delta: float) -> 
             f"g + delta = {g_plus_delta:g})")
 
 
+def _filter_rows(frame: pd.DataFrame, node: Node, keep: np.ndarray, where: str) -> np.ndarray:
+    """The filter's value on the rows ``keep`` marks, reading only the columns it names."""
+    cols = referenced_columns(node)
+    if all(c in frame.columns for c in cols):
+        frame = frame[list(cols)]
+    return evaluate_filter(node, frame.iloc[np.flatnonzero(keep)], where)
+
+
 def sample_members(table: EconomyTable, text: str, where: str) -> np.ndarray:
     """Economies in a sample (a mask over the table's rows): every column the filter reads
     present, and the filter true."""
@@ -468,16 +525,20 @@ def sample_members(table: EconomyTable, text: str, where: str) -> np.ndarray:
     for col in referenced_columns(node):
         if col in frame.columns:
             keep &= frame[col].notna().to_numpy()
-    keep[keep] = evaluate_filter(node, frame.loc[keep], where)
+    keep[keep] = _filter_rows(frame, node, keep, where)
     return keep
 
 
 def select(table: EconomyTable, spec: Spec, sample: str, form: ModelForm) -> Selection:
-    """Cut the estimation sample ``sample`` for ``form``, listing every economy dropped."""
+    """Cut the estimation sample ``sample`` for ``form``, listing every economy dropped.
+
+    Works on row positions and whole columns: only the economies dropped are named one by
+    one."""
     text = spec.body.samples[sample]
     where = f"samples.{sample}"
     node = parse_filter(text, where)
     frame = table.frame
+    index = frame.index
     dropped: list[Dropped] = []
 
     filter_cols = referenced_columns(node)
@@ -485,48 +546,48 @@ def select(table: EconomyTable, spec: Spec, sample: str, form: ModelForm) -> Sel
     for col in filter_cols:
         if col in frame.columns:
             missing = frame[col].isna().to_numpy()
-            for economy in frame.index[missing & keep]:
-                dropped.append(Dropped(economy, f"missing '{col}', which the sample filter reads"))
+            for economy in index[missing & keep]:
+                dropped.append(Dropped(economy, f"missing '{col}', {FILTER_READS}"))
             keep &= ~missing
-    keep[keep] = evaluate_filter(node, frame.loc[keep], where)
-    in_sample = frame.loc[keep]
-    n_in_sample = int(keep.sum())
+    keep[keep] = _filter_rows(frame, node, keep, where)
+    positions = np.flatnonzero(keep)
+    n_in_sample = len(positions)
 
-    used = np.ones(len(in_sample), dtype=bool)
+    used = np.ones(n_in_sample, dtype=bool)
     policy = spec.body.data.non_positive
     needed = list(form.needs)
     cluster = spec.body.inference.cluster
     for var in needed:
         col = table.variables[var]
-        raw = in_sample[col]
-        level = in_sample[f"_{var}_level"]
-        missing = raw.isna().to_numpy()
-        nonpos = (~missing) & (level <= 0).to_numpy()
-        for economy in in_sample.index[missing & used]:
+        raw = frame[col].to_numpy(dtype=float)[positions]
+        level = frame[f"_{var}_level"].to_numpy(dtype=float)[positions]
+        missing = np.isnan(raw)
+        with np.errstate(invalid="ignore"):
+            nonpos = (~missing) & (level <= 0)
+        for economy in index[positions[missing & used]]:
             dropped.append(Dropped(economy, table.absent.get(economy)
                                    or f"missing {var} ('{col}')"))
-        bad = nonpos & used
-        if bad.any():
-            economy = in_sample.index[bad][0]
+        bad = np.flatnonzero(nonpos & used)
+        if len(bad):
             gd = spec.body.assumptions.g_plus_delta
             if policy == "error":
                 raise InputError(
-                    f"economy '{quote(economy)}' has "
-                    f"{_non_positive(var, raw[economy], level[economy], gd)}, and its log is "
+                    f"economy '{quote(index[positions[bad[0]]])}' has "
+                    f"{_non_positive(var, raw[bad[0]], level[bad[0]], gd)}, and its log is "
                     f"needed; fix the data or set data.non_positive = \"drop\"",
                     f"column '{col}' in sample '{sample}'")
-            for e in in_sample.index[bad]:
-                dropped.append(Dropped(e, f"{_non_positive(var, raw[e], level[e], gd)} in "
-                                          f"'{col}'"))
+            dropped += [Dropped(index[positions[i]],
+                                f"{_non_positive(var, raw[i], level[i], gd)} in '{col}'")
+                        for i in bad]
         used &= ~(missing | nonpos)
     if cluster is not None:
-        missing = in_sample[cluster].isna().to_numpy()
-        for economy in in_sample.index[missing & used]:
+        missing = frame[cluster].isna().to_numpy()[positions]
+        for economy in index[positions[missing & used]]:
             dropped.append(Dropped(economy, f"missing cluster '{cluster}'"))
         used &= ~missing
 
-    columns = list(dict.fromkeys([LOG_COLUMNS[v] for v in needed] + [form.dependent]))
-    out = in_sample.loc[used, columns].copy()
-    if cluster is not None:
-        out["_cluster"] = in_sample.loc[used, cluster]
-    return Selection(sample, text, out, n_in_sample, tuple(dropped))
+    columns = tuple(dict.fromkeys([LOG_COLUMNS[v] for v in needed] + [form.dependent]))
+    mask = np.zeros(len(frame), dtype=bool)
+    mask[positions[used]] = True
+    return Selection(sample, text, frame, columns, cluster, n_in_sample, tuple(dropped),
+                     mask, keep)

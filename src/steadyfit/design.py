@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -32,7 +32,7 @@ class Design:
     equation: str
     sample: str
     form: ModelForm
-    economies: tuple[str, ...]
+    economies: Sequence[str]  # a pandas Index from the selection
     y: np.ndarray
     x_unrestricted: np.ndarray
     x_restricted: np.ndarray
@@ -75,21 +75,32 @@ class Design:
 def regressor_matrix(frame_values: Mapping[str, np.ndarray], regs: tuple[Regressor, ...],
                      n: int) -> np.ndarray:
     """The constant and each regressor (a combination of canonical columns) as columns."""
-    cols = [np.ones(n)]
-    for reg in regs:
-        col = np.zeros(n)
+    out = np.empty((n, len(regs) + 1), order="F")  # filled and read column by column
+    out[:, 0] = 1.0
+    for j, reg in enumerate(regs, 1):
+        col: np.ndarray | None = None
         for c, w in reg.weights.items():
-            col = col + w * frame_values[c]
-        cols.append(col)
-    return np.column_stack(cols)
+            term = frame_values[c] if w == 1.0 else w * frame_values[c]
+            col = term if col is None else col + term
+        out[:, j] = 0.0 if col is None else col
+    return out
+
+
+def design_arrays(selection: Selection, form: ModelForm, equation: str,
+                  symbols: Mapping[str, str] | None = None) -> Design:
+    """The arrays of ``form`` on ``selection``, unchecked (see :func:`build_design`)."""
+    values = {c: selection.column(c).astype(float, copy=False) for c in selection.columns}
+    n = selection.nobs
+    clusters = selection.column(selection.cluster) if selection.cluster is not None else None
+    return Design(equation, selection.sample, form, selection.economies,
+                  values[form.dependent], regressor_matrix(values, form.unrestricted, n),
+                  regressor_matrix(values, form.restricted, n), clusters, dict(symbols or {}))
 
 
 def build_design(selection: Selection, form: ModelForm, equation: str,
                  symbols: Mapping[str, str] | None = None) -> Design:
     """Arrays for ``form`` on ``selection``; refuse too few economies and collinear regressors."""
-    frame = selection.frame
-    n = len(frame)
-    values = {c: frame[c].to_numpy(dtype=float) for c in frame.columns if not c.startswith("_")}
+    n = selection.nobs
     where = cell_name(equation, selection.sample)
     k = 1 + len(form.unrestricted)
     if n < k + 2:
@@ -97,17 +108,13 @@ def build_design(selection: Selection, form: ModelForm, equation: str,
             f"{n} economies are left ({selection.n_in_sample} in the sample, "
             f"{len(selection.dropped)} dropped), but the unrestricted equation has {k} "
             f"coefficients and needs at least {k + 2} economies", where)
-    x_u = regressor_matrix(values, form.unrestricted, n)
-    x_r = regressor_matrix(values, form.restricted, n)
-    symbols = dict(symbols or {})
-    for x, regs in ((x_u, form.unrestricted), (x_r, form.restricted)):
-        _check_rank(x, ("constant", *(r.text(symbols) for r in regs)), where)
-    clusters = None
-    if "_cluster" in frame.columns:
-        clusters = frame["_cluster"].to_numpy()
-        _check_clusters(clusters, form, where)
-    return Design(equation, selection.sample, form, selection.economies,
-                  values[form.dependent], x_u, x_r, clusters, symbols)
+    design = design_arrays(selection, form, equation, symbols)
+    for x, regs in ((design.x_unrestricted, form.unrestricted),
+                    (design.x_restricted, form.restricted)):
+        _check_rank(x, ("constant", *(r.text(design.symbols) for r in regs)), where)
+    if design.clusters is not None:
+        _check_clusters(design.clusters, form, where)
+    return design
 
 
 def _check_clusters(clusters: np.ndarray, form: ModelForm, where: str) -> None:
@@ -124,9 +131,19 @@ def _check_clusters(clusters: np.ndarray, form: ModelForm, where: str) -> None:
             "\"HC1\"", "inference.cluster")
 
 
+# A column-scaled design whose cross-product has eigenvalues further apart than this has
+# full rank beyond doubt (its condition number is below 1e4); closer calls go to the
+# singular values of the design itself.
+_CLEARLY_FULL_RANK = 1e-8
+
+
 def _check_rank(x: np.ndarray, labels: tuple[str, ...], where: str) -> None:
-    scale = np.where(np.abs(x).max(axis=0) > 0, np.abs(x).max(axis=0), 1.0)
+    largest = np.abs(x).max(axis=0)
+    scale = np.where(largest > 0, largest, 1.0)
     xs = x / scale
+    eig = np.linalg.eigvalsh(xs.T @ xs)
+    if eig[0] > _CLEARLY_FULL_RANK * eig[-1]:
+        return
     if np.linalg.matrix_rank(xs) == x.shape[1]:
         return
     for j in range(1, x.shape[1] + 1):

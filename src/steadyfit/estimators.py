@@ -38,10 +38,14 @@ class Fit:
     ssr: float
     covariance: str
     use_t: bool
-    fitted: np.ndarray
     resid: np.ndarray
     n_clusters: int | None = None
     cov_problem: str | None = None  # why the covariance cannot support tests (singular ...)
+
+    def fitted(self, x: np.ndarray) -> np.ndarray:
+        """The fitted values on the design ``x`` the fit was made on (kept as the design's
+        recipe, not as one more array per fit)."""
+        return x @ self.coef
 
     def __repr__(self) -> str:
         clusters = f", {self.n_clusters} clusters" if self.n_clusters is not None else ""
@@ -142,7 +146,6 @@ def fit_ols(y: np.ndarray, x: np.ndarray, names: tuple[str, ...], labels: tuple[
         ssr=float(res.ssr),
         covariance=covariance,
         use_t=bool(res.use_t),
-        fitted=np.asarray(res.fittedvalues, dtype=float),
         resid=np.asarray(res.resid, dtype=float),
         n_clusters=n_clusters,
         cov_problem=covariance_problem(cov, n_clusters),

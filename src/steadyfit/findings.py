@@ -6,6 +6,7 @@ Renderers read these and nothing else.  Every record is a frozen dataclass.
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Literal
 
@@ -13,7 +14,9 @@ import numpy as np
 import pandas as pd
 
 from .analysis import AnalysisData
-from .data import Dropped
+from .data import Dropped, Selection
+from .design import regressor_matrix
+from .equations import ModelForm, Regressor
 from .estimators import CovarianceName, Fit
 from .labels import DisplayLabels, display
 
@@ -245,17 +248,45 @@ class Observations:
 
     ``x`` is the unrestricted design (constant first), columns named like the
     unrestricted fit's coefficients; ``x_restricted`` likewise for the restricted
-    fit.  ``y`` is the dependent variable (log income, or its log change).
+    fit.  ``y`` is the dependent variable (log income, or its log change).  They are
+    made from the data table's columns when asked for, so findings hold no copy of
+    each sample.
     """
 
-    economies: tuple[str, ...]
-    y: np.ndarray
-    x: np.ndarray
-    x_restricted: np.ndarray
-    clusters: np.ndarray | None = None  # cluster labels under cluster-robust covariance
+    selection: Selection = field(repr=False)
+    form: ModelForm = field(repr=False)
+
+    @property
+    def economies(self) -> Sequence[str]:
+        """A pandas Index (never a per-economy copy)."""
+        return self.selection.economies
+
+    @property
+    def y(self) -> np.ndarray:
+        return self.selection.column(self.form.dependent).astype(float, copy=False)
+
+    def _matrix(self, regs: tuple[Regressor, ...]) -> np.ndarray:
+        values = {c: self.selection.column(c).astype(float, copy=False)
+                  for c in self.selection.columns}
+        return regressor_matrix(values, regs, self.selection.nobs)
+
+    @property
+    def x(self) -> np.ndarray:
+        return self._matrix(self.form.unrestricted)
+
+    @property
+    def x_restricted(self) -> np.ndarray:
+        return self._matrix(self.form.restricted)
+
+    @property
+    def clusters(self) -> np.ndarray | None:
+        """Cluster labels under cluster-robust covariance."""
+        sel = self.selection
+        return None if sel.cluster is None else sel.column(sel.cluster)
 
     def __repr__(self) -> str:
-        return f"Observations({len(self.economies)} economies, {self.x.shape[1] - 1} regressors)"
+        return (f"Observations({self.selection.nobs} economies, {len(self.form.unrestricted)} "
+                "regressors)")
 
 
 @dataclass(frozen=True)
@@ -267,7 +298,7 @@ class EquationFindings:
     form_key: str
     description: str
     restriction_text: str
-    economies: tuple[str, ...]
+    economies: Sequence[str]  # a pandas Index (never a per-economy copy)
     dropped: tuple[Dropped, ...]
     n_in_sample: int
     dependent_label: str
@@ -374,9 +405,12 @@ class TargetCheck:
 
 @dataclass(frozen=True)
 class SampleSummary:
+    """A sample: its filter and its economies (a pandas Index in the data's order)."""
+
     name: str
     filter: str
     n_selected: int
+    members: Sequence[str] = ()
 
 
 @dataclass(frozen=True)

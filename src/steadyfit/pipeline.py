@@ -9,7 +9,8 @@ from __future__ import annotations
 
 import platform
 import warnings
-from dataclasses import dataclass, replace
+from collections.abc import Mapping
+from dataclasses import dataclass, field, replace
 from importlib import metadata
 from pathlib import Path
 
@@ -19,7 +20,7 @@ from . import equations
 from .anchor import MEASURED_SHARE_CAVEAT, anchored, covariance_with_alpha, measured_share
 from .consistency import consistency_checks
 from .data import SHARE_COLUMN, EconomyTable, Selection, load_data, select
-from .design import Design, build_design
+from .design import Design, build_design, cell_name, design_arrays
 from .errors import EstimationError, InputError, did_you_mean, quote
 from .estimators import fit_ols
 from .findings import (
@@ -39,6 +40,7 @@ from .quantities import panel_quantities, quantities, unavailable
 from .robust.execute import Execution
 from .spec import Spec, load_spec
 from .structural import minimum_distance, nonlinear_least_squares
+from .workers import give_back_memory
 
 _VERSIONED = ("steadyfit", "numpy", "scipy", "pandas", "statsmodels", "linearmodels",
               "pydantic")
@@ -46,13 +48,31 @@ _VERSIONED = ("steadyfit", "numpy", "scipy", "pandas", "statsmodels", "linearmod
 
 @dataclass(frozen=True)
 class PlannedCell:
-    """One equation on one sample, ready to estimate."""
+    """One equation on one sample, ready to estimate (its design checked when planned)."""
 
     selection: Selection
-    design: Design
+    form: equations.ModelForm
+    equation: str
+    symbols: Mapping[str, str] = field(default_factory=dict)  # the spec's variable labels
     structural: bool = False
     measured: MeasuredShare | None = None  # the national-accounts anchor, where data have one
-    capital_shares: np.ndarray | None = None  # 1 - labour share of each economy used (NaN: none)
+
+    @property
+    def capital_shares(self) -> np.ndarray | None:
+        """One minus the labour share of each economy used (NaN: none), with an anchor."""
+        if self.measured is None:
+            return None
+        return 1.0 - self.selection.column(SHARE_COLUMN).astype(float)
+
+    @property
+    def design(self) -> Design:
+        """The cell's arrays, made anew on each call, so that a run holds those of the cell it
+        is working on only (the table's columns are shared)."""
+        return design_arrays(self.selection, self.form, self.equation, self.symbols)
+
+    @property
+    def where(self) -> str:
+        return cell_name(self.equation, self.selection.sample)
 
 
 @dataclass(frozen=True)
@@ -87,6 +107,7 @@ def plan(spec: Spec | str | Path) -> Plan:
     """Validate spec and data and build every design, without estimating."""
     spec = _as_spec(spec)
     table = load_data(spec)
+    give_back_memory()  # what reading and checking the file left behind
     cells = []
     panels = []
     span = span_years(spec, table)
@@ -98,11 +119,9 @@ def plan(spec: Spec | str | Path) -> Plan:
         form = equations.find_form(eq.form, eq.capital, span)
         for sample in spec.equation_samples(eq):
             selection = select(table, spec, sample, form)
-            design = build_design(selection, form, eq.name, spec.body.labels.variables)
-            measured = measured_of(spec, table, design.economies)
-            capital = (None if measured is None else 1.0 - table.frame[SHARE_COLUMN].reindex(
-                list(design.economies)).to_numpy(dtype=float))
-            cells.append(PlannedCell(selection, design, eq.structural, measured, capital))
+            build_design(selection, form, eq.name, spec.body.labels.variables)  # checks only
+            cells.append(PlannedCell(selection, form, eq.name, spec.body.labels.variables,
+                                     eq.structural, measured_of(spec, table, selection.rows)))
     sweep = spec.body.sweep
     if sweep is not None and sweep.drop_each is not None and \
             sweep.drop_each not in table.frame.columns:
@@ -112,14 +131,14 @@ def plan(spec: Spec | str | Path) -> Plan:
     return Plan(spec, table, tuple(cells), tuple(panels))
 
 
-def measured_of(spec: Spec, table: EconomyTable, economies: tuple[str, ...]
-                ) -> MeasuredShare | None:
-    """The measured capital share of ``economies`` (None when the data have no labour
-    share)."""
+def measured_of(spec: Spec, table: EconomyTable, rows: np.ndarray) -> MeasuredShare | None:
+    """The measured capital share of the economies at positions ``rows`` of the table (None
+    when the data have no labour share)."""
     column = spec.body.data.columns.labour_share
     if column is None:
         return None
-    return measured_share(table.frame[SHARE_COLUMN], economies, column, table.span)
+    labour = table.frame[SHARE_COLUMN].iloc[rows]
+    return measured_share(labour, labour.index, column, table.span)
 
 
 def settings_of(spec: Spec, table: EconomyTable | None = None) -> Settings:
@@ -142,6 +161,10 @@ def settings_of(spec: Spec, table: EconomyTable | None = None) -> Settings:
         figures=b.report.figures,
     )
 
+
+# From this many economies a cell's fits leave enough freed memory behind to be worth giving
+# back before the next (a choice of this project, no source).
+LARGE_CELL = 100_000
 
 # Below this many clusters cluster-robust standard errors are known to be unreliable
 # (common practice, no source).
@@ -177,9 +200,9 @@ def _estimate_cell(cell: PlannedCell, settings: Settings) -> EquationFindings:
     f_test, wald = restriction_tests(d, unres, res)
     shares, speed, problem = implied_parameters(d.form, res, settings.confidence,
                                                 settings.bands, settings.points)
-    if cell.measured is not None and cell.capital_shares is not None:
-        with_alpha = covariance_with_alpha(d.form, res, d.x_restricted, cell.capital_shares,
-                                           d.clusters)
+    capital = cell.capital_shares
+    if cell.measured is not None and capital is not None:
+        with_alpha = covariance_with_alpha(d.form, res, d.x_restricted, capital, d.clusters)
         shares = anchored(shares, cell.measured, with_alpha)
     un_shares, cross = unrestricted_shares(d.form, unres, settings.confidence)
     notes = []
@@ -207,9 +230,17 @@ def _estimate_cell(cell: PlannedCell, settings: Settings) -> EquationFindings:
         n_in_sample=cell.selection.n_in_sample, dependent_label=d.form.dependent_label,
         unrestricted=unres, restricted=res, f_test=f_test, wald_test=wald, shares=shares,
         speed=speed, unrestricted_shares=un_shares, crosscheck=cross, problem=problem,
-        observations=Observations(d.economies, d.y, d.x_unrestricted, d.x_restricted,
-                                  d.clusters),
+        observations=Observations(cell.selection, d.form),
         notes=tuple(notes), minimum_distance=md, nonlinear=nls)
+
+
+def _estimated(cell: PlannedCell, settings: Settings) -> EquationFindings:
+    """One cell estimated, and the memory its fits used given back (see
+    :func:`~steadyfit.workers.give_back_memory`) before the next."""
+    found = estimate_cell(cell, settings)
+    if cell.selection.nobs >= LARGE_CELL:
+        give_back_memory()
+    return found
 
 
 def estimate_panel(p: Plan, cell: PlannedPanel, settings: Settings) -> PanelFindings:
@@ -299,9 +330,9 @@ def run(spec: Spec | str | Path, execution: Execution | None = None) -> Findings
     settings = settings_of(p.spec, p.table)
     analysis = build_analysis(p)
     labels = DisplayLabels(p.spec.body.labels.equations, p.spec.body.labels.samples)
-    results = tuple(replace(estimate_cell(cell, settings),
-                            equation_label=labels.equations.get(cell.design.equation),
-                            sample_label=labels.samples.get(cell.design.sample))
+    results = tuple(replace(_estimated(cell, settings),
+                            equation_label=labels.equations.get(cell.equation),
+                            sample_label=labels.samples.get(cell.selection.sample))
                     for cell in p.cells)
     panels = tuple(replace(estimate_panel(p, cell, settings),
                            equation_label=labels.equations.get(cell.equation),
@@ -316,7 +347,9 @@ def run(spec: Spec | str | Path, execution: Execution | None = None) -> Findings
     seen: dict[str, SampleSummary] = {}
     for cell in p.cells:
         sel = cell.selection
-        seen.setdefault(sel.sample, SampleSummary(sel.sample, sel.filter, sel.n_in_sample))
+        if sel.sample not in seen:
+            seen[sel.sample] = SampleSummary(sel.sample, sel.filter, sel.n_in_sample,
+                                             p.table.frame.index[sel.members])
     prov = Provenance(
         spec_path=str(p.spec.path) if p.spec.path else None,
         spec_sha256=p.spec.sha256,

@@ -156,7 +156,7 @@ def fit_figure(r: EquationFindings, n_labels: int = 5,
     formats = _check_formats(formats)
     title = f"Fit: {r.heading}"
     y = r.observations.y
-    fitted, resid = r.unrestricted.fitted, r.unrestricted.resid
+    fitted, resid = r.unrestricted.fitted(r.observations.x), r.unrestricted.resid
     lo, hi = float(min(fitted.min(), y.min())), float(max(fitted.max(), y.max()))
     left = Panel(limits(fitted, [lo, hi]), limits(y, [lo, hi]),
                   f"fitted {r.dependent_label}", f"actual {r.dependent_label}",

@@ -6,7 +6,8 @@ import html
 from dataclasses import dataclass
 from typing import Any
 
-from ..findings import EquationFindings, Findings, TestResult
+from ..analysis import listing_limit
+from ..findings import EquationFindings, Findings, SampleSummary, TestResult
 from ..labels import quantity_label
 from .figures import Figure
 from .tables import (
@@ -162,6 +163,16 @@ def _environment() -> Any:
     )
 
 
+def _members(x: SampleSummary, findings: Findings) -> tuple[str, str]:
+    """A sample's heading and its economies (once per sample: a result uses the sample's
+    economies less those it drops, which its own table lists)."""
+    head = f"{findings.labels.sample(x.name)} ({len(x.members):,} economies)"
+    if len(x.members) > listing_limit():
+        return head, (f"more than {listing_limit():,} economies are not listed one by one; "
+                      "results.json keeps the SHA-256 digest of their sorted ids")
+    return head, ", ".join(map(str, x.members))
+
+
 def render_html(findings: Findings, figures: tuple[Figure, ...], run: dict[str, Any]) -> str:
     """The whole report as one HTML document."""
     import markupsafe
@@ -193,5 +204,5 @@ def render_html(findings: Findings, figures: tuple[Figure, ...], run: dict[str, 
         tables=tables,
         appendix=appendix,
         figures=[(f, markupsafe.Markup(f.svg)) for f in figures],
-        economies=[(r.heading, ", ".join(r.economies)) for r in findings.results],
+        economies=[_members(x, findings) for x in findings.samples],
     ))

@@ -1,11 +1,11 @@
 """The replication package of a run folder, rendered from findings only.
 
 ``data/analysis.csv`` (every economy of every sample with the columns as
-estimated), ``data/codebook.csv`` and ``data/codebook.md`` (one row per column
-of the CSV), the descriptive statistics and correlations as tables, the folder's
-``README.md`` and the references of the methods the run used
-(``references.txt``, ``references.bib``).  Nothing here reads files: the run
-folder writer hands over what it will copy.
+estimated; up to :data:`~steadyfit.analysis.LISTED_ECONOMIES` rows),
+``data/codebook.csv`` and ``data/codebook.md`` (one row per column of the CSV), the
+descriptive statistics and correlations as tables, the folder's ``README.md`` and the
+references of the methods the run used (``references.txt``, ``references.bib``).
+Nothing here reads files: the run folder writer hands over what it will copy.
 """
 
 from __future__ import annotations
@@ -19,7 +19,7 @@ from typing import Any
 
 import pandas as pd
 
-from ..analysis import AnalysisData
+from ..analysis import AnalysisData, listing_limit
 from ..findings import Findings
 from .markdown import render_table_md
 from .tables import Cell, Row, Table
@@ -99,7 +99,7 @@ _STATISTICS = ("mean", "standard deviation", "minimum", "maximum", "N")
 
 
 def _statistic_cells(values: pd.Series) -> tuple[Cell, ...]:
-    v = values.dropna().astype(float)
+    v = values.astype(float).dropna()
     n = len(v)
     if n == 0:
         return (*(Cell.empty() for _ in range(4)), Cell("integer", 0))
@@ -122,15 +122,15 @@ def descriptive_tables(findings: Findings) -> tuple[Table, ...]:
     used = {c for s in data.samples for c in data.regressors(s)}
     regressors = [c for c in data.with_role("log", "derived") if c.column in used]
     for s in data.samples:
-        members = data.members(s)
-        section = f"{findings.labels.sample(s)} ({len(members)} economies)"
-        for i, c in enumerate(variables):
-            stats_rows.append(Row(c.label, _statistic_cells(members[c.column]),
+        mask = data.frame[data.sample_column(s)].to_numpy() == 1
+        section = f"{findings.labels.sample(s)} ({int(mask.sum())} economies)"
+        for i, c in enumerate(variables):  # one column at a time: no copy of the sample
+            stats_rows.append(Row(c.label, _statistic_cells(data.frame[c.column].loc[mask]),
                                   section=section if i == 0 else None))
         regs = [c.column for c in regressors if c.column in data.regressors(s)]
         if len(regs) < 2:
             continue
-        corr = members[regs].astype(float).corr()
+        corr = data.members(s, regs).astype(float).corr()
         for i, a in enumerate(regs):
             cells = tuple(Cell("number", float(corr.loc[a, b.column]))
                           if b.column in regs[: i + 1] else Cell.empty() for b in regressors)
@@ -342,6 +342,12 @@ def render_readme(findings: Findings, run: Mapping[str, Any], paths: Iterable[st
     if analysis_text is not None:
         digest = hashlib.sha256(analysis_text.encode("utf-8")).hexdigest()
         out.append(f"- made here, `{ANALYSIS_CSV}`: `{digest}`")
+    elif findings.analysis is not None:
+        out += ["", f"`{ANALYSIS_CSV}` is not written: its {len(findings.analysis.frame):,} "
+                f"rows are more than the {listing_limit():,} economies a run folder lists one "
+                "by one (results.json keeps each sample's count and the SHA-256 of its sorted "
+                "economy ids instead). The same table comes from the library: "
+                "`steadyfit.build_analysis(steadyfit.plan(SPEC)).frame`."]
     pins = " ".join(f'"{k}=={v}"' for k, v in versions.items()
                     if k != "python" and v != "not installed")
     copied = f"inputs/{data}" in paths
@@ -369,13 +375,15 @@ def package_files(findings: Findings, run: Mapping[str, Any], paths: Iterable[st
 
     ``paths`` are the folder's other files, the copies in ``inputs/`` included; the README
     lists them with the package's own files."""
-    files = {ANALYSIS_CSV: analysis_csv(findings), CODEBOOK_CSV: codebook_csv(findings),
-             CODEBOOK_MD: codebook_md(findings), "references.txt": references_text(findings),
+    files = {CODEBOOK_CSV: codebook_csv(findings), CODEBOOK_MD: codebook_md(findings),
+             "references.txt": references_text(findings),
              "references.bib": references_bibtex(findings)}
+    if len(_analysis(findings).frame) <= listing_limit():
+        files[ANALYSIS_CSV] = analysis_csv(findings)
     for p in findings.panels:
         if p.data is not None:
             files[f"{PANEL_CSV}{p.equation}_{p.sample}.csv"] = p.data.to_csv(
                 index=False, float_format="%.17g", lineterminator="\n")
     files["README.md"] = render_readme(findings, run, [*paths, *files, "README.md"],
-                                       files[ANALYSIS_CSV])
+                                       files.get(ANALYSIS_CSV))
     return files

@@ -7,20 +7,26 @@ record of an older format version into the current layout.
 
 from __future__ import annotations
 
+import hashlib
 import json
 import math
+from collections.abc import Sequence
 from dataclasses import asdict
 from importlib import resources
 from typing import Any
 
 import numpy as np
+import pandas as pd
 
+from ..analysis import listing_limit
+from ..data import FILTER_READS
 from ..estimators import Fit
 from ..findings import (
     AnchorCheck,
     EquationFindings,
     Estimate,
     Findings,
+    SampleSummary,
     ShareVerdict,
     TestResult,
 )
@@ -37,8 +43,11 @@ from ..robust.results import BootstrapFindings, InfluenceFindings, SweepFindings
 #    adj_r2, ser, restricted_adj_r2 and restricted_ser became observations, r_squared,
 #    adjusted_r_squared, residual_sd, restricted_adjusted_r_squared and
 #    restricted_residual_sd.
-FORMAT_VERSION = 3
-READABLE_VERSIONS = (2, 3)  # what upgrade_record (and so ``compare``) reads
+# 4: each sample lists its economies once ("members", with "members_sha256"; null above
+#    LISTED_ECONOMIES), and a result no longer lists its own: they are the sample's
+#    members less the economies it dropped.
+FORMAT_VERSION = 4
+READABLE_VERSIONS = (2, 3, 4)  # what upgrade_record (and so ``compare``) reads
 SCHEMA_FILE = "results.schema.json"
 
 
@@ -117,6 +126,30 @@ def _anchor(a: AnchorCheck) -> dict[str, Any]:
     }
 
 
+def economy_digest(economies: Sequence[str]) -> str:
+    """The SHA-256 of the economy ids sorted and joined by newlines (UTF-8): the same for the
+    same set of economies whatever their order in the data."""
+    ids = pd.Index(economies, dtype=str).sort_values()
+    h = hashlib.sha256()
+    for start in range(0, len(ids), _DIGEST_CHUNK):  # never the whole list as Python text
+        part = "\n".join(ids[start:start + _DIGEST_CHUNK].tolist())
+        h.update((("\n" if start else "") + part).encode("utf-8"))
+    return h.hexdigest()
+
+
+_DIGEST_CHUNK = 50_000
+
+
+def _sample(x: SampleSummary) -> dict[str, Any]:
+    listed = len(x.members) <= listing_limit()
+    return {"name": x.name, "filter": x.filter, "economies": x.n_selected,
+            "members": [str(e) for e in x.members] if listed else None,
+            "members_sha256": economy_digest(x.members),
+            "members_reason": None if listed else (
+                f"{len(x.members):,} economies, more than the {listing_limit():,} a run "
+                "folder lists")}
+
+
 def _result(r: EquationFindings, confidence: float) -> dict[str, Any]:
     c = r.crosscheck
     return {
@@ -128,7 +161,6 @@ def _result(r: EquationFindings, confidence: float) -> dict[str, Any]:
         "restriction": r.restriction_text,
         "observations": r.nobs,
         "n_in_sample": r.n_in_sample,
-        "economies": list(r.economies),
         "dropped": [{"economy": d.economy, "reason": d.reason} for d in r.dropped],
         "unrestricted": _fit(r.unrestricted, confidence),
         "restricted": _fit(r.restricted, confidence),
@@ -281,8 +313,7 @@ def to_record(findings: Findings, run: dict[str, Any]) -> dict[str, Any]:
             "figure_formats": list(s.figure_formats), "latex_max_columns": s.latex_max_columns,
             "latex_landscape": s.latex_landscape,
         },
-        "samples": [{"name": x.name, "filter": x.filter, "economies": x.n_selected}
-                    for x in findings.samples],
+        "samples": [_sample(x) for x in findings.samples],
         "results": [_result(r, s.confidence) for r in findings.results],
         "scorecard": [
             {"equation": t.equation, "sample": t.sample, "quantity": t.quantity,
@@ -326,15 +357,38 @@ class UnreadableVersion(ValueError):
     """A results.json of a format version this steadyfit cannot read."""
 
 
+def _samples_from_results(record: dict[str, Any]) -> list[Any]:
+    """Before version 4 each result listed its economies and a sample only counted them: a
+    sample's members are the economies its results used or dropped for a missing value
+    (not for the filter), in the order the results list them."""
+    out: list[Any] = []
+    for x in record.get("samples", []):
+        if not isinstance(x, dict):
+            out.append(x)
+            continue
+        members: dict[str, None] = {}
+        for r in record.get("results", []):
+            if isinstance(r, dict) and r.get("sample") == x.get("name"):
+                members.update(dict.fromkeys(map(str, r.get("economies", []))))
+                members.update(dict.fromkeys(
+                    str(d.get("economy")) for d in r.get("dropped", [])
+                    if isinstance(d, dict) and FILTER_READS not in str(d.get("reason", ""))))
+        out.append(dict(x, members=list(members), members_sha256=economy_digest(list(members)),
+                        members_reason=None))
+    return out
+
+
 def upgrade_record(record: dict[str, Any]) -> dict[str, Any]:
     """A parsed results.json in the current layout (a new dict; the argument is unchanged).
 
-    Version 2 is read by renaming its keys; any other version than those in
+    Version 2 is read by renaming its keys; in versions 2 and 3 each result listed its
+    economies, which become its sample's members.  Any other version than those in
     :data:`READABLE_VERSIONS` raises :class:`UnreadableVersion`, saying which it is.
     """
     version = record.get("format_version")
     if isinstance(version, bool) or version not in READABLE_VERSIONS:
-        readable = " and ".join(str(v) for v in READABLE_VERSIONS)
+        readable = (", ".join(str(v) for v in READABLE_VERSIONS[:-1])
+                    + f" and {READABLE_VERSIONS[-1]}")
         which = "has no format_version" if version is None else (
             f"has format_version {json.dumps(version)}")
         newer = (" (written by a newer steadyfit)"
@@ -344,6 +398,7 @@ def upgrade_record(record: dict[str, Any]) -> dict[str, Any]:
     if version == FORMAT_VERSION:
         return dict(record)
     out = dict(record, format_version=FORMAT_VERSION)
+    out["samples"] = _samples_from_results(record)
     settings = _renamed(record.get("settings", {}), _V2_SETTINGS_KEYS)
     if isinstance(settings, dict):
         settings = {**_V2_SETTINGS_IMPLIED, **settings}
@@ -352,6 +407,7 @@ def upgrade_record(record: dict[str, Any]) -> dict[str, Any]:
     for r in record.get("results", []):
         r = _renamed(r, _V2_RESULT_KEYS)
         if isinstance(r, dict):
+            r.pop("economies", None)  # from 4 on, listed once by the sample
             for fit in ("unrestricted", "restricted"):
                 if fit in r:
                     r[fit] = _renamed(r[fit], _V2_FIT_KEYS)

@@ -134,7 +134,7 @@ def draw_chunk(design: Design, restricted: Fit, unrestricted: Fit, covariance: C
         groups = n if codes is None else int(codes.max()) + 1
         v = _wild_weights(rng, settings.weights, (size, groups))
         v = v if codes is None else v[:, codes]
-        ys = restricted.fitted[None, :] + restricted.resid[None, :] * v
+        ys = restricted.fitted(x_r)[None, :] + restricted.resid[None, :] * v
         unres, res = fit_pair(x_u, x_r, y, covariance, responses=ys, clusters=codes)
         centre = 0.0
     implied = implied_batch(design.form, res)

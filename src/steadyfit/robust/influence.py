@@ -120,7 +120,7 @@ def summarise_influence(parts: list[LeaveOut], design: Design, found: EquationFi
     for i in sorted(flagged_rows, key=lambda i: (-relative[i], -cooks[i])):
         moved = tuple(q for j, q in enumerate(shown) if abs(shifts[j, i]) > limits[j])
         named.append(InfluentialEconomy(
-            design.economies[i], {q: float(shifts[j, i]) for j, q in enumerate(shown)},
+            str(design.economies[int(i)]), {q: float(shifts[j, i]) for j, q in enumerate(shown)},
             None if math.isnan(p_without[i]) else float(p_without[i]), float(cooks[i]),
             moved, bool(ordinary[i])))
     return InfluenceFindings(threshold, speed_threshold, cutoff, tuple(shown),

@@ -144,15 +144,14 @@ def sweep_jobs(plan: Plan, settings: Settings) -> list[Callable[[], SweepFinding
         if (sweep.equations and d.equation not in sweep.equations) or (
                 sweep.samples and d.sample not in sweep.samples):
             continue
-        selected = cell.selection.frame
-        columns = {c: selected[c].to_numpy(dtype=float) for c in selected.columns
-                   if not c.startswith("_")}
+        columns = {c: cell.selection.column(c).astype(float, copy=False)
+                   for c in cell.selection.columns}
         labels: tuple[str | None, ...] = (None,)
         masks = np.ones((1, len(d.y)))
         if refuse and NGD in columns:
             _refuse_non_positive(columns[NGD], settings.g_plus_delta, values, d)
         if sweep.drop_each is not None:
-            rows = frame.index.get_indexer(list(d.economies))
+            rows = cell.selection.rows
             groups = pd.Series(frame[sweep.drop_each].to_numpy()[rows])
             present = groups.notna().to_numpy()  # an economy without a group is never left out
             names, codes = np.unique(groups[present].astype(str).to_numpy(),
