@@ -165,6 +165,13 @@ def test_a_run_reports_bootstrap_intervals_everywhere(boot_spec, tmp_path):
     assert (folder / "tables" / "bootstrap.tex").exists()
     r = found.result("with_schooling", "all")
     assert quantities(r)["alpha_percentile_low"] == r.bootstrap.interval("alpha").percentile[0]
+    # the terminal view says it too: each bootstrapped result under its heading
+    terminal = steadyfit.render_text(found, width=200)
+    lo, hi = r.bootstrap.interval("alpha").percentile
+    assert f"{r.heading}:\n  - Pairs bootstrap (299 draws)" in terminal
+    assert f"α percentile interval {lo:.3f} to {hi:.3f}" in terminal
+    assert f"{found.result('physical_only', 'all').heading}:" not in terminal.split(
+        "Robustness:")[1]
     assert quantities(r)["restriction_bootstrap_p"] == r.bootstrap.restriction.pvalue
 
 

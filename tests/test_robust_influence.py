@@ -108,6 +108,8 @@ def test_a_run_names_its_influential_economies(tmp_path):
     text = (folder / "tables" / "influence.md").read_text()
     assert r.influence.named[0].economy in text
     assert "leaving out" in (folder / "summary.md").read_text()
+    terminal = steadyfit.render_text(found, width=200).split("Robustness:")[1]
+    assert f"Leaving out '{r.influence.named[0].economy}' moves" in terminal
 
 
 @pytest.mark.parametrize("text, words", [

@@ -113,6 +113,9 @@ def test_the_run_folder_shows_the_sweep(swept, tmp_path):
     assert "specifications of the sweep" in summary
     n_in_band, counted = found.sweep.share_overlapping("with_schooling", "alpha")
     assert f"overlaps its band in {n_in_band} of {counted}" in summary
+    terminal = steadyfit.render_text(found, width=200).split("Robustness:")[1]
+    assert f"Over the {len(found.sweep)} specifications of the sweep" in terminal
+    assert f"overlaps its band in {n_in_band} of {counted}" in terminal
 
 
 def test_too_few_economies_after_dropping_a_group_is_said(tmp_path):

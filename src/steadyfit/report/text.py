@@ -125,10 +125,31 @@ def render_table_text(table: Table, digits: int = 3, width: int = DEFAULT_WIDTH,
     return "\n".join(line.rstrip() for line in file.getvalue().rstrip("\n").split("\n"))
 
 
+def _robustness_lines(findings: Findings, width: int) -> list[str]:
+    """The bootstrap, leave-one-out and sweep results in a sentence each (the tables are in
+    the report and summary.md)."""
+    from .verdicts import bootstrap_phrase, influence_phrase, sweep_clause
+
+    level = 1 - findings.settings.confidence
+    lines = []
+    for r in findings.results:
+        phrases = ([bootstrap_phrase(r, level)] if r.bootstrap is not None else []) + (
+            [influence_phrase(r)] if r.influence is not None else [])
+        if phrases:
+            lines.append(f"{r.heading}:")
+            for phrase in phrases:
+                lines += _wrap(phrase[0].upper() + phrase[1:] + ".", width, "  - ")
+    if findings.sweep is not None:
+        text = sweep_clause(findings, level)
+        lines += _wrap(text[0].upper() + text[1:] + ".", width)
+    return ["", "Robustness:", *lines] if lines else []
+
+
 def render_text(findings: Findings, tables: tuple[Table, ...] | None = None,
                 width: int = DEFAULT_WIDTH, colour: bool = False) -> str:
     """The compact terminal view: warnings, notes, the key-results table, the levels-versus-
-    growth comparisons and the scorecard's count."""
+    growth comparisons, the robustness analyses in a sentence each and the scorecard's
+    count."""
     from .tables import compact_table
     from .verdicts import consistency_lines
 
@@ -155,6 +176,7 @@ def render_text(findings: Findings, tables: tuple[Table, ...] | None = None,
         parts += ["", "Levels against growth form:"]
         for line in lines:
             parts += _wrap(line, width, "- ")
+    parts += _robustness_lines(findings, width)
     if findings.scorecard:
         met = sum(t.met for t in findings.scorecard)
         parts += ["", f"Replication targets: {met} of {len(findings.scorecard)} met."]
