@@ -54,11 +54,12 @@ def bootstrap_part(repeat: int) -> None:
 
     from steadyfit.pipeline import estimate_cell, settings_of
     from steadyfit.robust.bootstrap import BootstrapSettings, run_draws, summarise
+    from steadyfit.robust.execute import Execution, run_jobs
 
     p = _classic_plan()
     settings = settings_of(p.spec, p.table)
-    cell = next(c for c in p.cells if c.design.equation == "augmented"
-                and c.design.sample == "non_oil")
+    cell = next(c for c in p.cells if c.equation == "augmented"
+                and c.selection.sample == "non_oil")
     d = cell.design
     found = estimate_cell(cell, settings)
     n = len(d.y)
@@ -73,8 +74,9 @@ def bootstrap_part(repeat: int) -> None:
     def draw() -> None:
         np.random.default_rng(0).integers(0, n, size=(REPLICATIONS, n))
 
-    def candidate() -> None:
-        draws = run_draws(d, found.restricted, found.unrestricted, "classical", boot)
+    def candidate() -> None:  # through the executor a run uses (one process here)
+        draws = run_draws(d, found.restricted, found.unrestricted, "classical", boot,
+                          lambda jobs: run_jobs(jobs, Execution()))
         summarise(draws, found, boot, False)
 
     for fn in (draw, candidate):  # warm up
@@ -107,6 +109,7 @@ def sweep_part(repeat: int) -> None:
     import statsmodels.api as sm
 
     from steadyfit.pipeline import settings_of
+    from steadyfit.robust.execute import Execution, run_jobs
     from steadyfit.robust.sweep import summarise_sweep, sweep_jobs
     from steadyfit.spec import SweepSpec
 
@@ -118,12 +121,12 @@ def sweep_part(repeat: int) -> None:
     p.spec.body = body  # the plan's spec with the sweep (a benchmark shortcut)
     settings = settings_of(p.spec, p.table)
 
-    def candidate() -> int:
-        parts = [job() for job in sweep_jobs(p, settings)]
-        return len(summarise_sweep(parts, settings, "rownames").rows)
+    def candidate() -> int:  # through the executor a run uses (one process here)
+        parts = run_jobs(sweep_jobs(p, settings), Execution())
+        return len(summarise_sweep(parts, settings, "rownames"))  # columnar: no row objects
 
-    cell = next(c for c in p.cells if c.design.equation == "augmented"
-                and c.design.sample == "non_oil")
+    cell = next(c for c in p.cells if c.equation == "augmented"
+                and c.selection.sample == "non_oil")
     frame = cell.selection.frame
     y = frame["ln_y"].to_numpy()
     sk, sh = frame["ln_sk"].to_numpy(), frame["ln_sh"].to_numpy()

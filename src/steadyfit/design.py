@@ -86,10 +86,17 @@ def regressor_matrix(frame_values: Mapping[str, np.ndarray], regs: tuple[Regress
     return out
 
 
+def selected_columns(selection: Selection) -> dict[str, np.ndarray]:
+    """The canonical columns a selection's form needs, over the economies used."""
+    return {c: selection.column(c).astype(float, copy=False) for c in selection.columns}
+
+
 def design_arrays(selection: Selection, form: ModelForm, equation: str,
-                  symbols: Mapping[str, str] | None = None) -> Design:
-    """The arrays of ``form`` on ``selection``, unchecked (see :func:`build_design`)."""
-    values = {c: selection.column(c).astype(float, copy=False) for c in selection.columns}
+                  symbols: Mapping[str, str] | None = None,
+                  values: Mapping[str, np.ndarray] | None = None) -> Design:
+    """The arrays of ``form`` on ``selection`` (from ``values``, its columns, when at hand),
+    unchecked (see :func:`build_design`)."""
+    values = selected_columns(selection) if values is None else values
     n = selection.nobs
     clusters = selection.column(selection.cluster) if selection.cluster is not None else None
     return Design(equation, selection.sample, form, selection.economies,

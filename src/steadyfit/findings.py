@@ -15,7 +15,7 @@ import pandas as pd
 
 from .analysis import AnalysisData
 from .data import Dropped, Selection
-from .design import regressor_matrix
+from .design import regressor_matrix, selected_columns
 from .equations import ModelForm, Regressor
 from .estimators import CovarianceName, Fit
 from .labels import DisplayLabels, display
@@ -266,9 +266,7 @@ class Observations:
         return self.selection.column(self.form.dependent).astype(float, copy=False)
 
     def _matrix(self, regs: tuple[Regressor, ...]) -> np.ndarray:
-        values = {c: self.selection.column(c).astype(float, copy=False)
-                  for c in self.selection.columns}
-        return regressor_matrix(values, regs, self.selection.nobs)
+        return regressor_matrix(selected_columns(self.selection), regs, self.selection.nobs)
 
     @property
     def x(self) -> np.ndarray:

@@ -21,12 +21,11 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.special import chdtrc
 
 from ..design import Design
 from ..estimators import CovarianceName, Fit
 from ..findings import EquationFindings
-from .kernel import cluster_codes, fit_pair, implied_batch
+from .kernel import cluster_codes, fit_pair, implied_batch, one_restriction_p
 from .results import InfluenceFindings, InfluentialEconomy
 
 # economies left out per job: about 5 million row weights per block
@@ -107,7 +106,7 @@ def summarise_influence(parts: list[LeaveOut], design: Design, found: EquationFi
     shifts = np.vstack([value[names.index(q)] - full[q] for q in shown]) if shown else \
         np.zeros((0, len(ordinary)))
     shifts[:, ~ordinary] = np.nan
-    p_without = chdtrc(1, wald)
+    p_without = one_restriction_p(wald)
     cooks = cooks_distance(found.restricted, design.x_restricted)
     n = len(design.y)
     cutoff = COOKS_SCALE / n

@@ -22,13 +22,20 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 import pandas as pd
-from scipy.special import chdtrc, ndtri
+from scipy.special import ndtri
 
 from ..data import LOG_COLUMNS
-from ..design import Design, regressor_matrix
+from ..design import Design, design_arrays, regressor_matrix, selected_columns
 from ..errors import InputError, quote
 from ..estimators import CovarianceName
-from .kernel import BatchFit, classical_pairs, cluster_codes, fit_pair, implied_batch
+from .kernel import (
+    BatchFit,
+    classical_pairs,
+    cluster_codes,
+    fit_pair,
+    implied_batch,
+    one_restriction_p,
+)
 from .results import SweepFindings
 
 if TYPE_CHECKING:
@@ -103,7 +110,7 @@ def fit_grid(job: _Job) -> SweepFindings:
         r = d.restriction[0]
         by_entry = np.moveaxis(unres.cov, 0, -1)  # (k, k, B)
         var = np.tensordot(r, np.tensordot(r, by_entry, axes=(0, 0)), axes=(0, 0))
-        p = chdtrc(1, np.where(var > 0, (unres.coef @ r) ** 2 / var, np.nan))
+        p = one_restriction_p(np.where(var > 0, (unres.coef @ r) ** 2 / var, np.nan))
     else:
         p = np.full(len(nobs), np.nan)
     few = nobs < k + 2
@@ -140,12 +147,11 @@ def sweep_jobs(plan: Plan, settings: Settings) -> list[Callable[[], SweepFinding
     refuse = plan.spec.body.data.non_positive == "error"
     jobs: list[Callable[[], SweepFindings]] = []
     for cell in plan.cells:
-        d = cell.design
-        if (sweep.equations and d.equation not in sweep.equations) or (
-                sweep.samples and d.sample not in sweep.samples):
+        if (sweep.equations and cell.equation not in sweep.equations) or (
+                sweep.samples and cell.selection.sample not in sweep.samples):
             continue
-        columns = {c: cell.selection.column(c).astype(float, copy=False)
-                   for c in cell.selection.columns}
+        columns = selected_columns(cell.selection)
+        d = design_arrays(cell.selection, cell.form, cell.equation, cell.symbols, columns)
         labels: tuple[str | None, ...] = (None,)
         masks = np.ones((1, len(d.y)))
         if refuse and NGD in columns:
@@ -154,8 +160,7 @@ def sweep_jobs(plan: Plan, settings: Settings) -> list[Callable[[], SweepFinding
             rows = cell.selection.rows
             groups = pd.Series(frame[sweep.drop_each].to_numpy()[rows])
             present = groups.notna().to_numpy()  # an economy without a group is never left out
-            names, codes = np.unique(groups[present].astype(str).to_numpy(),
-                                     return_inverse=True)
+            codes, names = pd.factorize(groups[present].astype(str), sort=True)
             full = np.full(len(groups), -1)
             full[present] = codes
             labels += tuple(str(g) for g in names)
