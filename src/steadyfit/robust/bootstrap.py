@@ -120,11 +120,11 @@ def draw_chunk(design: Design, restricted: Fit, unrestricted: Fit, covariance: C
     if settings.method == "pairs":
         if codes is not None:
             groups = int(codes.max()) + 1
-            counts = _counts(rng.integers(0, groups, size=(size, groups)), groups)
+            counts = _counts(_drawn(rng, groups, size), groups)
             unres, res = fit_pair(x_u, x_r, y, covariance, clusters=codes,
                                   cluster_counts=counts)
         else:
-            blocks = [_counts(rng.integers(0, n, size=(m, n)), n) for m in _blocks(size, n)]
+            blocks = [_counts(_drawn(rng, n, m), n) for m in _blocks(size, n)]
             fitted = (classical_pair_in_blocks(x_u, x_r, y, blocks)
                       if covariance == "classical" else None)
             unres, res = fitted or fit_pair(x_u, x_r, y, covariance, weights=np.vstack(blocks),
@@ -153,13 +153,21 @@ def _blocks(draws: int, units: int) -> list[int]:
     return [min(step, draws - start) for start in range(0, draws, step)]
 
 
+def _drawn(rng: np.random.Generator, units: int, rows: int) -> np.ndarray:
+    """``rows`` resamples of ``units`` units drawn with replacement, as unit numbers in the
+    narrowest integer type that holds them (fewer random bits to make)."""
+    dtype = np.int16 if units <= np.iinfo(np.int16).max else np.int64
+    return rng.integers(0, units, size=(rows, units), dtype=dtype)
+
+
 def _counts(drawn: np.ndarray, size: int) -> np.ndarray:
-    """How often each of ``size`` units appears in each row of ``drawn`` (which it
-    overwrites), as floats (counted with unit weights: no integer copy to convert)."""
+    """How often each of ``size`` units appears in each row of ``drawn``, as floats: each
+    row's units shifted into a range of their own (one pass that also widens them), counted
+    with unit weights (no integer copy to convert)."""
     rows = drawn.shape[0]
-    drawn += size * np.arange(rows)[:, None]
-    return np.bincount(drawn.ravel(), weights=_ones(drawn.size),
-                       minlength=rows * size).reshape(rows, size)
+    flat = _offsets(rows, size) + drawn.ravel()
+    return np.bincount(flat, weights=_ones(drawn.size), minlength=rows * size
+                       ).reshape(rows, size)
 
 
 @functools.lru_cache(maxsize=4)
@@ -167,6 +175,14 @@ def _ones(size: int) -> np.ndarray:
     ones = np.ones(size)
     ones.flags.writeable = False
     return ones
+
+
+@functools.lru_cache(maxsize=4)
+def _offsets(rows: int, size: int) -> np.ndarray:
+    """Where each of ``rows`` rows of ``size`` units starts, repeated for each unit."""
+    out = np.repeat(size * np.arange(rows, dtype=np.intp), size)
+    out.flags.writeable = False
+    return out
 
 
 Runner = Callable[[list[Callable[[], Draws]]], list[Draws]]

@@ -143,7 +143,6 @@ def sweep_jobs(plan: Plan, settings: Settings) -> list[Callable[[], SweepFinding
     assert sweep is not None
     values = tuple(float(v) for v in (sweep.g_plus_delta or (settings.g_plus_delta,)))
     covariances = sweep.covariance or (settings.covariance,)
-    frame = plan.table.frame
     refuse = plan.spec.body.data.non_positive == "error"
     jobs: list[Callable[[], SweepFindings]] = []
     for cell in plan.cells:
@@ -157,13 +156,12 @@ def sweep_jobs(plan: Plan, settings: Settings) -> list[Callable[[], SweepFinding
         if refuse and NGD in columns:
             _refuse_non_positive(columns[NGD], settings.g_plus_delta, values, d)
         if sweep.drop_each is not None:
-            rows = cell.selection.rows
-            groups = pd.Series(frame[sweep.drop_each].to_numpy()[rows])
-            present = groups.notna().to_numpy()  # an economy without a group is never left out
+            groups = cell.selection.column(sweep.drop_each)
+            present = pd.notna(groups)  # an economy without a group is never left out
             codes, names = pd.factorize(groups[present].astype(str), sort=True)
             full = np.full(len(groups), -1)
             full[present] = codes
-            labels += tuple(str(g) for g in names)
+            labels += tuple(map(str, names.tolist()))
             masks = np.vstack([masks, (full[None, :] != np.arange(len(names))[:, None])
                                .astype(float)])
         jobs += [_Job(d, columns, settings.g_plus_delta, values, cov, masks, labels,
