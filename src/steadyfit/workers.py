@@ -146,10 +146,10 @@ def run_forked(fns: Sequence[Callable[[], Any]], costs: Sequence[float], workers
     """Every ``fns[i]()`` in order, over at most ``workers`` forked processes (this one
     included) when ``workers >= 2`` and fork is safe; serially otherwise.  ``preload`` runs
     once before forking (imports the children should share).  The garbage collector is kept
-    off the caller's heap meanwhile (see ``_collector_spares_the_heap``)."""
+    off the caller's heap meanwhile (see ``collector_spares_the_heap``)."""
     fns = list(fns)
     n = min(workers, len(fns))
-    with _collector_spares_the_heap():
+    with collector_spares_the_heap():
         if n >= 2 and can_fork():
             if preload is not None:
                 preload()
@@ -158,7 +158,7 @@ def run_forked(fns: Sequence[Callable[[], Any]], costs: Sequence[float], workers
 
 
 @contextlib.contextmanager
-def _collector_spares_the_heap() -> Iterator[None]:
+def collector_spares_the_heap() -> Iterator[None]:
     """While the jobs run, the garbage collector looks at the jobs' new objects only, not at the
     rest of the heap (the caller's data, pandas, statsmodels): no full pass over it mid-way,
     and a forked process shares those pages instead of copying them.  Left alone when the

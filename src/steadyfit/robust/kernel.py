@@ -331,7 +331,15 @@ def classical_pairs(designs: list[tuple[np.ndarray, np.ndarray, np.ndarray]], y:
     t = combination(designs[0][0], designs[0][1])
     if t is None:
         return None
-    return _both_classical(np.hstack([_products(xu, y, w) for xu, _, w in designs]), t)
+    weights = designs[0][2]
+    if any(w is not weights for _, _, w in designs):
+        return _both_classical(np.hstack([_products(xu, y, w) for xu, _, w in designs]), t)
+    # the same weights for every design: one product of all designs' row sums with them,
+    # laid out as the designs' products side by side
+    rows = np.hstack([_row_products(xu, y) for xu, _, _ in designs])
+    stats = (rows.T @ np.asarray(weights, dtype=float).T).reshape(len(designs), -1,
+                                                                  len(weights))
+    return _both_classical(stats.transpose(1, 0, 2).reshape(stats.shape[1], -1), t)
 
 
 @dataclass(frozen=True, eq=False)

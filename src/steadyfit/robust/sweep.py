@@ -79,7 +79,8 @@ def _designs(job: _Job) -> list[tuple[np.ndarray, np.ndarray, np.ndarray]]:
         ok = level > 0
         cols = dict(job.columns, **{NGD: np.log(np.where(ok, level, 1.0))})
         out.append((regressor_matrix(cols, form.unrestricted, n),
-                    regressor_matrix(cols, form.restricted, n), job.masks * ok[None, :]))
+                    regressor_matrix(cols, form.restricted, n),
+                    job.masks if ok.all() else job.masks * ok[None, :]))
     return out
 
 
