@@ -33,6 +33,40 @@ def test_fit_matches_statsmodels(regression, cov):
     np.testing.assert_allclose(ours.conf_int(0.9), ref.conf_int(0.1), rtol=1e-10)
 
 
+@pytest.mark.parametrize("cov", ["classical", "HC0", "HC1", "HC2", "HC3", "cluster"])
+@pytest.mark.parametrize("design", ["ordinary", "ill_conditioned", "no_constant"])
+def test_every_number_of_a_fit_matches_statsmodels(cov, design):
+    """The numpy computation against statsmodels' OLS itself: coefficients, covariance,
+    residuals, fit statistics and the distribution, on an ordinary design, a nearly collinear
+    one (condition number about 1e6) and one without a constant."""
+    import statsmodels.api as sm
+
+    rng = np.random.RandomState(11)
+    n = 80
+    a, b = rng.normal(size=n), rng.normal(size=n)
+    c = a + (1e-5 if design == "ill_conditioned" else 1.0) * rng.normal(size=n)
+    x = np.column_stack([np.ones(n), a, b, c])
+    if design == "no_constant":
+        x = x[:, 1:]
+    y = x @ np.linspace(0.5, -0.4, x.shape[1]) + rng.normal(scale=0.3 + 0.4 * np.abs(a))
+    groups = np.repeat(np.arange(16), n // 16).astype(str)
+    names = tuple(f"x{j}" for j in range(x.shape[1]))
+    ours = fit_ols(y, x, names, names, cov, groups if cov == "cluster" else None)
+    kw = ({} if cov == "classical" else {"cov_type": "cluster", "cov_kwds": {
+        "groups": np.repeat(np.arange(16), n // 16)}} if cov == "cluster" else {"cov_type": cov})
+    ref = sm.OLS(y, x).fit(**kw)
+    tight = 1e-7 if design == "ill_conditioned" else 1e-11
+    np.testing.assert_allclose(ours.coef, ref.params, rtol=tight)
+    np.testing.assert_allclose(ours.cov, ref.cov_params(), rtol=tight, atol=1e-14)
+    np.testing.assert_allclose(ours.resid, ref.resid, rtol=1e-9, atol=1e-12)
+    for mine, theirs in ((ours.ssr, ref.ssr), (ours.rsquared, ref.rsquared),
+                         (ours.rsquared_adj, ref.rsquared_adj), (ours.df_resid, ref.df_resid)):
+        assert mine == pytest.approx(theirs, rel=1e-10)
+    assert ours.nobs == ref.nobs and ours.use_t == ref.use_t
+    np.testing.assert_allclose(ours.pvalues, ref.pvalues, rtol=1e-6, atol=1e-300)
+    assert ours.n_clusters == (16 if cov == "cluster" else None)
+
+
 def test_wald_test_matches_statsmodels(regression):
     """Our chi-square Wald statistic equals statsmodels' wald_test under HC1."""
     import statsmodels.api as sm

@@ -1,4 +1,4 @@
-"""Estimators.  Ordinary least squares goes through statsmodels.
+"""Estimators.  Ordinary least squares with statsmodels' formulas, in numpy.
 
 Each estimator returns a frozen :class:`Fit`; choosing another covariance
 means fitting again, never changing a record.
@@ -112,41 +112,74 @@ def covariance_problem(cov: np.ndarray, n_clusters: int | None = None) -> str | 
     return None
 
 
+# Singular values below this share of the largest count as zero in the pseudo-inverse
+# (statsmodels' default for its OLS).
+_RCOND = 1e-15
+
+
 def fit_ols(y: np.ndarray, x: np.ndarray, names: tuple[str, ...], labels: tuple[str, ...],
             covariance: CovarianceName = "classical",
             clusters: np.ndarray | None = None) -> Fit:
-    """Ordinary least squares with the chosen covariance (statsmodels)."""
-    from statsmodels.regression.linear_model import OLS
+    """Ordinary least squares with the chosen covariance.
 
-    model = OLS(y, x)
+    The computation is statsmodels' own for its OLS (a pseudo-inverse from the singular
+    value decomposition; the classical, HC0-HC3 and cluster sandwich with its small-sample
+    correction), written with numpy so that a run needs no import of statsmodels' model
+    classes; the tests hold every number against statsmodels."""
+    if covariance not in COVARIANCES:
+        raise ValueError(f"unknown covariance '{covariance}'; valid: {', '.join(COVARIANCES)}")
+    if covariance == "cluster" and clusters is None:
+        raise ValueError("cluster covariance needs cluster labels")
+    y = np.asarray(y, dtype=float)
+    x = np.asarray(x, dtype=float)
+    u, s, vt = np.linalg.svd(x, full_matrices=False)
+    inverse = np.where(s > _RCOND * s.max(), 1.0 / np.where(s > 0, s, 1.0), 0.0)
+    pinv = np.dot(vt.T, inverse[:, None] * u.T)
+    coef = np.dot(pinv, y)
+    resid = y - np.dot(x, coef)
+    nobs, k = x.shape
+    rank = int(np.count_nonzero(inverse))
+    df_resid = float(nobs - rank)
+    ssr = float(np.dot(resid, resid))
+    bread = np.dot(pinv, pinv.T)
+    constant = bool(np.any((np.ptp(x, axis=0) == 0) & np.any(x != 0, axis=0)))
+    centred = y - y.mean() if constant else y
+    rsquared = 1.0 - ssr / float(np.dot(centred, centred))
     n_clusters = None
     if covariance == "classical":
-        res = model.fit()
+        cov = bread * (ssr / df_resid)
     elif covariance == "cluster":
-        if clusters is None:
-            raise ValueError("cluster covariance needs cluster labels")
-        groups = pd.factorize(pd.Series(clusters).astype(str))[0]
         n_clusters = cluster_count(clusters)
-        res = model.fit(cov_type="cluster", cov_kwds={"groups": groups})
-    elif covariance in ("HC0", "HC1", "HC2", "HC3"):
-        res = model.fit(cov_type=covariance)
+        codes = pd.factorize(pd.Series(clusters).astype(str))[0]
+        scores = x * resid[:, None]
+        sums = np.zeros((int(codes.max()) + 1, k))
+        np.add.at(sums, codes, scores)
+        groups = len(sums)
+        cov = bread @ (sums.T @ sums) @ bread
+        cov *= (groups / (groups - 1.0)) * ((nobs - 1.0) / (nobs - k))
     else:
-        raise ValueError(f"unknown covariance '{covariance}'; valid: {', '.join(COVARIANCES)}")
-    cov = np.asarray(res.cov_params(), dtype=float)
+        scale = resid ** 2
+        if covariance == "HC1":
+            scale = scale * (nobs / df_resid)
+        elif covariance in ("HC2", "HC3"):
+            leverage = np.einsum("ij,ik,kj->i", x, x, bread)
+            scale = (scale / (1 - leverage) if covariance == "HC2"
+                     else (resid / (1 - leverage)) ** 2)
+        cov = np.dot(pinv, scale[:, None] * pinv.T)
     return Fit(
         names=names,
         labels=labels,
-        coef=np.asarray(res.params, dtype=float),
+        coef=coef,
         cov=cov,
-        nobs=int(res.nobs),
-        df_resid=float(res.df_resid),
-        rsquared=float(res.rsquared),
-        rsquared_adj=float(res.rsquared_adj),
-        ser=float(np.sqrt(res.ssr / res.df_resid)),
-        ssr=float(res.ssr),
+        nobs=nobs,
+        df_resid=df_resid,
+        rsquared=rsquared,
+        rsquared_adj=1.0 - (nobs - int(constant)) / df_resid * (1.0 - rsquared),
+        ser=float(np.sqrt(ssr / df_resid)),
+        ssr=ssr,
         covariance=covariance,
-        use_t=bool(res.use_t),
-        resid=np.asarray(res.resid, dtype=float),
+        use_t=covariance == "classical",
+        resid=resid,
         n_clusters=n_clusters,
         cov_problem=covariance_problem(cov, n_clusters),
     )
