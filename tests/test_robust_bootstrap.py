@@ -253,3 +253,14 @@ def test_the_half_life_is_mapped_from_lambda_and_unbounded_past_zero():
     assert half.percentile == (pytest.approx(math.log(2) / 0.02), math.inf)
     assert half.bias_corrected == pytest.approx((math.log(2) / 0.021, math.log(2) / 0.001))
     assert half.studentised is None
+
+
+def test_quantiles_from_one_sort_equal_numpys():
+    """The intervals' quantiles are numpy's own (np.quantile, linear method), to the bit."""
+    from steadyfit.robust.bootstrap import quantiles
+
+    rng = np.random.default_rng(3)
+    for n in (2, 3, 10, 999, 10_000):
+        v = rng.standard_t(3, size=n)
+        p = np.concatenate([[0.0, 1.0, 0.5, 0.025, 0.975], rng.uniform(size=40)])
+        assert np.array_equal(quantiles(v, p), np.quantile(v, p))

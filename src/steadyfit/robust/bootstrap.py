@@ -223,9 +223,24 @@ class _Job:
 # --- intervals --------------------------------------------------------------------------------
 
 
+def quantiles(draws: np.ndarray, probabilities: np.ndarray | list[float]) -> np.ndarray:
+    """numpy's default ("linear") quantiles, the same numbers as ``np.quantile``, from one
+    sort of the draws: several times faster than its selection for the few quantiles an
+    interval needs."""
+    ordered = np.sort(np.asarray(draws, dtype=float))
+    n = len(ordered)
+    virtual = np.asarray(probabilities, dtype=float) * (n - 1)
+    below = np.clip(np.floor(virtual).astype(np.intp), 0, n - 1)
+    above = np.clip(below + 1, 0, n - 1)
+    t = virtual - below
+    a, b = ordered[below], ordered[above]
+    step = b - a
+    return np.where(t >= 0.5, b - step * (1 - t), a + step * t)
+
+
 def percentile_interval(draws: np.ndarray, confidence: float) -> tuple[float, float]:
     tail = (1 - confidence) / 2
-    lo, hi = np.quantile(draws, [tail, 1 - tail])
+    lo, hi = quantiles(draws, [tail, 1 - tail])
     return float(lo), float(hi)
 
 
@@ -239,7 +254,7 @@ def bias_corrected_interval(draws: np.ndarray, estimate: float, confidence: floa
     z0 = float(ndtri(below))
     z = float(ndtri(0.5 + confidence / 2))
     levels = ndtr(np.array([2 * z0 - z, 2 * z0 + z]))
-    lo, hi = np.quantile(draws, levels)
+    lo, hi = quantiles(draws, levels)
     return float(lo), float(hi)
 
 
@@ -253,7 +268,7 @@ def percentile_and_bias_corrected(draws: np.ndarray, estimate: float, confidence
         return percentile_interval(draws, confidence), None
     z0, z = float(ndtri(below)), float(ndtri(0.5 + confidence / 2))
     shifted = ndtr(np.array([2 * z0 - z, 2 * z0 + z]))
-    q = np.quantile(draws, [tail, 1 - tail, *shifted])
+    q = quantiles(draws, [tail, 1 - tail, *shifted])
     return (float(q[0]), float(q[1])), (float(q[2]), float(q[3]))
 
 
@@ -266,7 +281,7 @@ def studentised_interval(draws: np.ndarray, draw_se: np.ndarray, estimate: float
         return None
     t = (draws[ok] - estimate) / draw_se[ok]
     tail = (1 - confidence) / 2
-    q_lo, q_hi = np.quantile(t, [tail, 1 - tail])
+    q_lo, q_hi = quantiles(t, [tail, 1 - tail])
     return float(estimate - q_hi * se), float(estimate - q_lo * se)
 
 
