@@ -27,7 +27,7 @@ import numpy as np
 import pandas as pd
 
 from .equations import ModelForm
-from .estimators import Fit
+from .estimators import Fit, cluster_codes
 from .findings import AnchorCheck, Estimate, MeasuredShare, ShareVerdict, TestResult
 from .inference import normal_estimate, z_test
 
@@ -96,8 +96,8 @@ def covariance_with_alpha(form: ModelForm, restricted: Fit, x: np.ndarray,
     influence_m: np.ndarray = np.zeros(len(capital))
     if known.any():
         influence_m[known] = (capital[known] - capital[known].mean()) / known.sum()
-    if clusters is not None:
-        codes = pd.factorize(pd.Series(clusters).astype(str))[0]
+    codes = cluster_codes(clusters)
+    if codes is not None:
         influence_a = np.bincount(codes, influence_a)
         influence_m = np.bincount(codes, influence_m)
     return float(influence_a @ influence_m)

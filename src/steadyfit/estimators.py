@@ -83,6 +83,13 @@ class Fit:
         return self.coef[1:], self.cov[1:, 1:]
 
 
+def cluster_codes(clusters: np.ndarray | None) -> np.ndarray | None:
+    """Cluster labels (compared as text) as integer codes 0..G-1, in order of appearance."""
+    if clusters is None:
+        return None
+    return np.asarray(pd.factorize(pd.Series(clusters).astype(str))[0])
+
+
 def cluster_count(clusters: np.ndarray | None) -> int | None:
     """How many distinct clusters the labels hold (labels compared as text); None without."""
     return None if clusters is None else len(np.unique(np.asarray(clusters).astype(str)))
@@ -150,11 +157,11 @@ def fit_ols(y: np.ndarray, x: np.ndarray, names: tuple[str, ...], labels: tuple[
         cov = bread * (ssr / df_resid)
     elif covariance == "cluster":
         n_clusters = cluster_count(clusters)
-        codes = pd.factorize(pd.Series(clusters).astype(str))[0]
+        codes = cluster_codes(clusters)
+        assert codes is not None
+        groups = int(codes.max()) + 1
         scores = x * resid[:, None]
-        sums = np.zeros((int(codes.max()) + 1, k))
-        np.add.at(sums, codes, scores)
-        groups = len(sums)
+        sums = np.column_stack([np.bincount(codes, scores[:, j], groups) for j in range(k)])
         cov = bread @ (sums.T @ sums) @ bread
         cov *= (groups / (groups - 1.0)) * ((nobs - 1.0) / (nobs - k))
     else:

@@ -38,10 +38,10 @@ import numpy as np
 from scipy.special import ndtr, ndtri
 
 from ..design import Design
-from ..estimators import CovarianceName, Fit
+from ..estimators import CovarianceName, Fit, cluster_codes
 from ..findings import EquationFindings, Estimate, TestResult
 from .choices import BootstrapMethod, WildWeights
-from .kernel import BatchFit, classical_pair_in_blocks, cluster_codes, fit_pair, implied_batch
+from .kernel import BatchFit, classical_pair_in_blocks, fit_pair, implied_batch
 from .results import BootstrapFindings, BootstrapInterval
 
 # Draws per chunk, the unit of seeding and of parallel work: about 2 million row weights per

@@ -23,9 +23,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..design import Design
-from ..estimators import CovarianceName, Fit
+from ..estimators import CovarianceName, Fit, cluster_codes
 from ..findings import EquationFindings
-from .kernel import cluster_codes, fit_pair, implied_batch, one_restriction_p
+from .kernel import fit_pair, implied_batch, one_restriction_p
 from .results import InfluenceFindings, InfluentialEconomy
 
 # economies left out per job: about 5 million row weights per block

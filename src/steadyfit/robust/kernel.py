@@ -25,7 +25,6 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 
 import numpy as np
-import pandas as pd
 from scipy.special import erfc
 
 from ..equations import ModelForm
@@ -67,13 +66,6 @@ def one_restriction_p(wald: np.ndarray) -> np.ndarray:
     many draws."""
     with np.errstate(invalid="ignore"):
         return np.asarray(erfc(np.sqrt(np.asarray(wald, dtype=float) / 2.0)))
-
-
-def cluster_codes(clusters: np.ndarray | None) -> np.ndarray | None:
-    """Cluster labels (compared as text) as integer codes 0..G-1, in order of appearance."""
-    if clusters is None:
-        return None
-    return np.asarray(pd.factorize(pd.Series(clusters).astype(str))[0])
 
 
 def _outer_rows(x: np.ndarray) -> np.ndarray:

@@ -27,11 +27,10 @@ from scipy.special import ndtri
 from ..data import LOG_COLUMNS
 from ..design import Design, design_arrays, regressor_matrix, selected_columns
 from ..errors import InputError, quote
-from ..estimators import CovarianceName
+from ..estimators import CovarianceName, cluster_codes
 from .kernel import (
     BatchFit,
     classical_pairs,
-    cluster_codes,
     fit_pair,
     implied_batch,
     one_restriction_p,
